@@ -1,0 +1,1 @@
+"""Exact forms, the recurrences that produce them, and their rigorous evaluation."""

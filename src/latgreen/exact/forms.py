@@ -1,0 +1,89 @@
+"""Exact forms: rational coefficients over a named basis of constants.
+
+A value such as R(3,1) = 46/(3 pi) - 4 on the square lattice is stored as the coefficients
+(-4, 46/3) over the basis (1, 1/pi).  Each basis element knows how to print a term in a plain
+syntax that sympy parses, and how to give its value as a rigorous python-flint ball at any
+working precision.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass
+from fractions import Fraction
+
+import flint
+
+
+@dataclass(frozen=True)
+class Constant:
+    """A basis constant: its sympy-style name and a rigorous evaluator ``ball(prec)``."""
+
+    name: str  # sympy syntax, e.g. "1", "1/pi", "sqrt(3)/pi"
+    ball: Callable[[], flint.arb]  # evaluated at the caller's flint precision
+
+    def term(self, c: Fraction) -> str:
+        """Print ``|c| * self`` (sign handled by the caller) in sympy syntax."""
+        p, q = abs(c.numerator), c.denominator
+        if self.name == "1":
+            return f"{p}" if q == 1 else f"{p}/{q}"
+        if self.name.startswith("1/"):
+            rest = self.name[2:]
+            return f"{p}/{rest}" if q == 1 else f"{p}/({q}*{rest})"
+        head = "" if p == 1 else f"{p}*"
+        return f"{head}{self.name}" if q == 1 else f"{head}{self.name}/{q}"
+
+
+ONE = Constant("1", lambda: flint.arb(1))
+INV_PI = Constant("1/pi", lambda: 1 / flint.arb.pi())
+
+
+@dataclass(frozen=True)
+class ExactForm:
+    """sum_i coeffs[i] * basis[i], with how the form was obtained.
+
+    ``how`` is ``"derived"`` (by a proven recurrence from proven seeds) or ``"identified"``
+    (integer-relation search, verified to ``verified_digits``).
+
+    >>> f = ExactForm((Fraction(-4), Fraction(46, 3)), (ONE, INV_PI))
+    >>> str(f)
+    '46/(3*pi) - 4'
+    """
+
+    coeffs: tuple[Fraction, ...]
+    basis: tuple[Constant, ...]
+    how: str = "derived"
+    verified_digits: int | None = None
+
+    def is_rational(self) -> bool:
+        return all(c == 0 for c, b in zip(self.coeffs, self.basis, strict=True) if b.name != "1")
+
+    def __str__(self) -> str:
+        # irrational terms first, then the rational one: "46/(3*pi) - 4"
+        order = sorted(range(len(self.basis)), key=lambda i: self.basis[i].name == "1")
+        parts: list[str] = []
+        for i in order:
+            c = self.coeffs[i]
+            if c == 0:
+                continue
+            t = self.basis[i].term(c)
+            if not parts:
+                parts.append(t if c > 0 else f"-{t}")
+            else:
+                parts.append(f"+ {t}" if c > 0 else f"- {t}")
+        return " ".join(parts) if parts else "0"
+
+    def integer_row(self) -> tuple[tuple[int, ...], tuple[int, ...]]:
+        """Numerators and per-element denominators, for the fixed-point evaluator."""
+        return (
+            tuple(c.numerator for c in self.coeffs),
+            tuple(c.denominator for c in self.coeffs),
+        )
+
+
+def form_from_integers(
+    nums: Sequence[int], dens: Sequence[int], basis: tuple[Constant, ...], how: str = "derived"
+) -> ExactForm:
+    return ExactForm(
+        tuple(Fraction(int(p), int(q)) for p, q in zip(nums, dens, strict=True)), basis, how
+    )

@@ -1,0 +1,33 @@
+"""Registry of lattices.  Adding a lattice: a module here and one line in ``LATTICES``."""
+
+from __future__ import annotations
+
+from ..errors import InputError
+from .base import Lattice, Site
+from .square import SQUARE
+
+LATTICES: dict[str, Lattice] = {SQUARE.name: SQUARE}
+
+# Lattices the project plans (see DEVELOPERS.md); named in error messages so that a user
+# asking for one learns it is not there yet rather than that it does not exist.
+PLANNED = ("triangular", "honeycomb", "sc", "bcc", "fcc")
+
+
+def get_lattice(name: str) -> Lattice:
+    """Look a lattice up by name, with a helpful error.
+
+    >>> get_lattice("square").z
+    4
+    """
+    try:
+        return LATTICES[name]
+    except KeyError:
+        pass
+    if name in PLANNED:
+        raise InputError(
+            f"lattice {name!r} is not implemented yet; available: {', '.join(sorted(LATTICES))}"
+        )
+    raise InputError(f"unknown lattice {name!r}; available: {', '.join(sorted(LATTICES))}")
+
+
+__all__ = ["LATTICES", "Lattice", "Site", "get_lattice"]

@@ -1,0 +1,1 @@
+"""Independent numerical methods (quadrature, asymptotic expansions)."""

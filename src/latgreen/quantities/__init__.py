@@ -1,0 +1,180 @@
+"""Quantities through their providers: the public single-value API lives here.
+
+``resistance(lattice, site, digits)`` returns a :class:`Result`: the value correctly rounded
+to ``digits`` significant digits, each of them confirmed by two independent methods, with the
+exact form where one exists and a rigorous bound on the printed value's error.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+from fractions import Fraction
+from typing import Any
+
+import mpmath
+
+from ..errors import InputError, VerificationError
+from ..exact.evaluate import FixedPointEvaluator
+from ..exact.forms import ExactForm
+from ..lattices import Site, get_lattice
+from ..rounding import Rounded, agreement_digits, round_interval
+from .base import Batch, Provider
+from .square_resistance import SQUARE_RESISTANCE
+
+MAX_DIGITS = 1000
+QUANTITIES = ("resistance",)
+PROVIDERS: dict[tuple[str, str], Provider] = {
+    ("square", "resistance"): SQUARE_RESISTANCE,
+}
+
+
+def check_digits(digits: object) -> int:
+    if isinstance(digits, bool) or not isinstance(digits, int):
+        raise InputError(f"digits must be an integer, got {digits!r}")
+    if digits <= 0:
+        raise InputError(f"digits must be positive, got {digits}")
+    if digits > MAX_DIGITS:
+        raise InputError(f"digits above the ceiling of {MAX_DIGITS} are not supported, "
+                         f"got {digits}")
+    return digits
+
+
+def get_provider(lattice: str, quantity: str) -> Provider:
+    lat = get_lattice(lattice)
+    if quantity not in QUANTITIES:
+        raise InputError(f"unknown quantity {quantity!r}; available: {', '.join(QUANTITIES)}")
+    try:
+        return PROVIDERS[(lat.name, quantity)]
+    except KeyError:
+        raise InputError(f"quantity {quantity!r} is not available for the {lat.name} lattice "
+                         "yet") from None
+
+
+@dataclass(frozen=True)
+class Result:
+    """One verified value.
+
+    ``value`` holds exactly ``digits`` significant digits, correctly rounded; ``error_bound``
+    bounds |value - true value| (half a unit in the last place).  ``methods`` lists the
+    independent methods whose values agree to ``agreement_digits`` significant digits.
+    """
+
+    lattice: str
+    quantity: str
+    site: Site
+    canonical_site: Site
+    digits: int
+    value: str
+    exact: ExactForm | None
+    error_bound: str
+    methods: tuple[str, ...]
+    agreement_digits: int
+    notes: tuple[str, ...] = field(default=())
+
+    @property
+    def mpf(self) -> mpmath.mpf:
+        """The value as an mpmath number (exactly the printed decimal, at enough precision)."""
+        with mpmath.workdps(self.digits + 5):
+            return mpmath.mpf(self.value)
+
+    def to_json(self) -> dict[str, Any]:
+        return {
+            "lattice": self.lattice,
+            "quantity": self.quantity,
+            "site": list(self.site),
+            "canonical_site": list(self.canonical_site),
+            "digits": self.digits,
+            "value": self.value,
+            "exact": None if self.exact is None else str(self.exact),
+            "exact_how": None if self.exact is None else self.exact.how,
+            "error_bound": self.error_bound,
+            "methods": list(self.methods),
+            "agreement_digits": self.agreement_digits,
+            "notes": list(self.notes),
+        }
+
+
+def mpf_fraction(x: mpmath.mpf) -> Fraction:
+    """Exact value of an mpmath number."""
+    sign, man, exp, _ = x._mpf_
+    if not man:
+        return Fraction(0)
+    v = Fraction(int(man)) * Fraction(2) ** int(exp)
+    return -v if sign else v
+
+
+def resistance(lattice: str, site: Sequence[object], digits: int = 50) -> Result:
+    """Two-point resistance between the origin and ``site`` of an infinite lattice of unit
+    resistors, to ``digits`` verified significant digits.
+
+    >>> r = resistance("square", (3, 1), digits=30)
+    >>> r.value, str(r.exact), r.methods
+    ('0.880751588151456963579102076757', '46/(3*pi) - 4', ('recurrence', 'quadrature'))
+    """
+    provider = get_provider(lattice, "resistance")
+    digits = check_digits(digits)
+    lat = provider.lattice
+    s = lat.site(site)
+    c = lat.canonical(s)
+    common = dict(lattice=lat.name, quantity="resistance", site=s, canonical_site=c,
+                  digits=digits)
+    if not any(c):
+        return Result(**common, value="0", exact=ExactForm((Fraction(0),), (), "derived"),
+                      error_bound="0", methods=("definition",), agreement_digits=digits)
+    form = provider.exact_form(c)
+    if form is not None:
+        nums, dens = form.integer_row()
+        ev = FixedPointEvaluator(form.basis, dens, digits).evaluate(nums)
+        q = provider.quad(c, digits)
+        agree = agreement_digits(ev.rounded.to_fraction(), mpf_fraction(q), digits)
+        if agree < digits:
+            raise VerificationError(
+                f"{lat.name} resistance at {c}: recurrence and quadrature agree to only "
+                f"{agree} of {digits} digits")
+        return Result(**common, value=str(ev.rounded), exact=form,
+                      error_bound=ev.rounded.half_ulp(), methods=("recurrence", "quadrature"),
+                      agreement_digits=agree)
+    return _far_site(provider, c, digits, common)
+
+
+def _far_site(provider: Provider, c: Site, digits: int, common: dict[str, Any]) -> Result:
+    """Beyond the exact range: quadrature confirmed by the far-field expansion."""
+    asy = provider.asymptotic(c, digits + 15)
+    if asy is None:  # pragma: no cover - every provider with a finite exact range has one
+        raise InputError(f"site {c} is beyond the exact range and no second method covers it")
+    a_val, a_err = asy
+    with mpmath.workdps(digits + 15):
+        q = provider.quad(c, digits + 10)
+        slack = mpmath.mpf(10) ** (-(digits + 9)) * abs(q)  # the quadrature's own target
+        reach = int(mpmath.floor(-mpmath.log10(2 * a_err / abs(q))))
+        agree = agreement_digits(mpf_fraction(q), mpf_fraction(a_val), digits + 10)
+        differ = abs(q - a_val) > a_err + slack
+    if differ:
+        raise VerificationError(
+            f"{provider.lattice.name} resistance at {c}: quadrature and far-field expansion "
+            f"differ by more than the expansion's error estimate")
+    if digits > reach:
+        raise InputError(
+            f"site {c} is beyond the exact range (coordinates up to {provider.exact_limit}); "
+            f"there the far-field expansion confirms only {reach} digits: ask for at most "
+            f"--digits {reach}")
+    # the quadrature has 10 guard digits; round it, and say so
+    with mpmath.workdps(digits + 15):
+        tol = mpmath.mpf(10) ** (-(digits + 8)) * abs(q)
+        lo, hi = mpf_fraction(q - tol), mpf_fraction(q + tol)
+    den = lo.denominator * hi.denominator
+    r = round_interval(lo.numerator * hi.denominator, hi.numerator * lo.denominator, den, digits)
+    if r is None:
+        raise InputError(f"site {c}: the value lies too close to a rounding boundary at "
+                         f"{digits} digits; ask for one digit more or less")
+    assert isinstance(r, Rounded)
+    return Result(**common, value=str(r), exact=None, error_bound=r.half_ulp(),
+                  methods=("quadrature", "asymptotic"), agreement_digits=min(agree, digits),
+                  notes=("beyond the exact range: the quadrature carries 10 guard digits "
+                         "(error estimate, not a proof); the far-field expansion confirms "
+                         f"{min(agree, digits)} digits",))
+
+
+__all__ = ["MAX_DIGITS", "PROVIDERS", "Batch", "Provider", "Result", "check_digits",
+           "get_provider", "resistance"]

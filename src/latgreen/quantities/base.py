@@ -1,0 +1,70 @@
+"""What a (lattice, quantity) provider offers to the API and the table builder.
+
+A provider turns the lattice's exact forms and independent methods into *batches*: groups of
+sites that share one set of denominators (one evaluator, one quadrature rule).  The table
+builder and the single-value API both go through it, so adding a lattice means writing a
+provider and registering it, nothing else.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator, Sequence
+from dataclasses import dataclass
+
+import mpmath
+
+from ..exact.forms import Constant, ExactForm
+from ..lattices import Lattice, Site
+
+
+@dataclass
+class Batch:
+    """Sites whose exact forms are sum_i nums[k][i] / dens[i] * basis[i]."""
+
+    sites: list[Site]
+    nums: list[tuple[int, ...]]
+    dens: tuple[int, ...]
+    basis: tuple[Constant, ...]
+    how: str = "derived"
+
+    def form(self, k: int) -> ExactForm:
+        from ..exact.forms import form_from_integers
+
+        return form_from_integers(self.nums[k], self.dens, self.basis, self.how)
+
+
+class Provider:
+    """Base class: one lattice x one quantity."""
+
+    lattice: Lattice
+    quantity: str
+    exact_limit: int  # largest extent for which exact forms are produced on request
+
+    def batches(self, extent: int) -> Iterator[Batch]:
+        raise NotImplementedError
+
+    def exact_form(self, site: Site) -> ExactForm | None:
+        raise NotImplementedError
+
+    def quad_batch(self, batch: Batch, digits: int) -> list[mpmath.mpf]:
+        """High-precision independent values for every site of a batch."""
+        raise NotImplementedError
+
+    def quad_float_batch(self, batch: Batch) -> Sequence[float]:
+        """float64 independent values (about 13+ digits) for every site of a batch."""
+        raise NotImplementedError
+
+    def quad(self, site: Site, digits: int) -> mpmath.mpf:
+        raise NotImplementedError
+
+    def asymptotic(self, site: Site, digits: int) -> tuple[mpmath.mpf, mpmath.mpf] | None:
+        """(value, error estimate), or None where the expansion is not used."""
+        return None
+
+    def memory_estimate(self, extent: int) -> int:
+        """Peak bytes of a table build to ``extent`` (rows stream to disk)."""
+        raise NotImplementedError
+
+    def output_estimate(self, extent: int, digits: int, with_exact: bool) -> int:
+        """Approximate bytes of values.csv + values.json."""
+        raise NotImplementedError

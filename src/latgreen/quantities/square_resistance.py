@@ -1,0 +1,75 @@
+"""Square lattice x resistance: the exact recurrence, two quadratures, the far field."""
+
+from __future__ import annotations
+
+from collections.abc import Iterator, Sequence
+
+import mpmath
+
+from ..exact import square as exact_square
+from ..exact.forms import ExactForm
+from ..lattices import Site
+from ..lattices.square import SQUARE
+from ..methods import square_asymptotic, square_quadrature
+from .base import Batch, Provider
+
+
+class SquareResistance(Provider):
+    lattice = SQUARE
+    quantity = "resistance"
+    exact_limit = 2000
+
+    def batches(self, extent: int) -> Iterator[Batch]:
+        for col in exact_square.columns(extent):
+            yield Batch(
+                sites=[(col.m, n) for n in range(col.m + 1)],
+                nums=list(zip(col.A, col.B, strict=True)),
+                dens=col.dens,
+                basis=exact_square.BASIS,
+            )
+
+    def exact_form(self, site: Site) -> ExactForm | None:
+        m, n = site
+        if m > self.exact_limit:
+            return None
+        return exact_square.resistance_form(m, n)
+
+    def quad_batch(self, batch: Batch, digits: int) -> list[mpmath.mpf]:
+        m = batch.sites[0][0]
+        if m == 0:
+            return [mpmath.mpf(0)]
+        return square_quadrature.column(m, [s[1] for s in batch.sites], digits)
+
+    def quad_float_batch(self, batch: Batch) -> Sequence[float]:
+        m = batch.sites[0][0]
+        if m == 0:
+            return [0.0]
+        return [float(v) for v in square_quadrature.column_float(m)]
+
+    def quad(self, site: Site, digits: int) -> mpmath.mpf:
+        return square_quadrature.resistance_quad(site[0], site[1], digits)
+
+    def asymptotic(self, site: Site, digits: int) -> tuple[mpmath.mpf, mpmath.mpf] | None:
+        m, n = site
+        if m * m + n * n < square_asymptotic.MIN_R**2:
+            return None
+        return square_asymptotic.resistance_asymptotic(m, n, digits)
+
+    def memory_estimate(self, extent: int) -> int:
+        # three columns of (extent+1) pairs of integers of up to ~2.6*extent bits each, plus
+        # Python object overhead; the quadrature nodes are small next to this.
+        per_int = 2.6 * extent / 8 + 40
+        return int(3 * (extent + 1) * 2 * per_int) + 50_000_000
+
+    def output_estimate(self, extent: int, digits: int, with_exact: bool) -> int:
+        sites = self.lattice.region_size(extent)
+        per_row = 2 * (digits + 60)  # csv + json, value and bookkeeping columns
+        if with_exact:
+            # the exact coefficients grow like (3 + 2 sqrt 2)^(m - n): 0.77 (m - n) digits,
+            # on average a third of the extent, twice (numerator and pi-coefficient), twice
+            # (csv and json)
+            per_row += int(4 * 0.77 * extent / 3) + 40
+        return sites * per_row
+
+
+SQUARE_RESISTANCE = SquareResistance()
