@@ -35,6 +35,7 @@ class Evaluated:
 
     rounded: Rounded
     bits: int  # fixed-point bits used (0 for exact rationals)
+    center: Fraction  # centre of the certified interval (the exact value for rationals)
 
 
 def _fixed_constants(basis: Sequence[Constant], dens: Sequence[int], bits: int) -> list[int]:
@@ -79,10 +80,11 @@ class FixedPointEvaluator:
         return k
 
     def start_bits(self, nums: Sequence[int]) -> int:
-        size = max((abs(int(c)).bit_length() - d.bit_length() for c, d in zip(nums, self.dens,
-                    strict=True)), default=0)
+        # each K_i is within one unit of 2^-P, so the error is sum |c_i| units: P must exceed
+        # the numerators' size (not the size of c_i / d_i) by the digits asked for
+        size = max((abs(int(c)).bit_length() for c in nums), default=0)
+        need = size + int(self.digits * LOG2_10) + 40
         # 64-bit granularity so that rows of similar size share cached constants
-        need = max(size, 0) + int(self.digits * LOG2_10) + 40
         return (need + 63) // 64 * 64
 
     def evaluate(self, nums: Sequence[int]) -> Evaluated:
@@ -92,7 +94,7 @@ class FixedPointEvaluator:
                  strict=True) if not irr),
                 Fraction(0),
             )
-            return Evaluated(round_rational(exact, self.digits) if exact else ZERO, 0)
+            return Evaluated(round_rational(exact, self.digits) if exact else ZERO, 0, exact)
         bits = self.start_bits(nums)
         cs = [gmpy2.mpz(int(c)) for c in nums]
         err = sum(abs(c) for c in cs) + 1
@@ -101,7 +103,7 @@ class FixedPointEvaluator:
             v = sum(c * k for c, k in zip(cs, ks, strict=True))
             r = round_interval(int(v - err), int(v + err), 1 << bits, self.digits)
             if r is not None:
-                return Evaluated(r, bits)
+                return Evaluated(r, bits, Fraction(int(v), 1 << bits))
             bits = (bits + bits // 2 + 63) // 64 * 64
         raise PrecisionError(
             f"could not certify {self.digits} digits within {MAX_BITS} bits of working precision"

@@ -127,7 +127,7 @@ def resistance(lattice: str, site: Sequence[object], digits: int = 50) -> Result
         nums, dens = form.integer_row()
         ev = FixedPointEvaluator(form.basis, dens, digits).evaluate(nums)
         q = provider.quad(c, digits)
-        agree = agreement_digits(ev.rounded.to_fraction(), mpf_fraction(q), digits)
+        agree = agreement_digits(ev.center, mpf_fraction(q), digits)
         if agree < digits:
             raise VerificationError(
                 f"{lat.name} resistance at {c}: recurrence and quadrature agree to only "

@@ -1,0 +1,1 @@
+"""Tables: plan, compute, cross-check and write; the default catalogue."""

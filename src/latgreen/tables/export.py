@@ -1,0 +1,307 @@
+"""Write a table: values.csv, values.json and a Frictionless Data Package v2 descriptor with
+W3C PROV provenance, atomically (temporary directory, then rename).
+
+Data files are byte-for-byte deterministic (rows sorted by site, UTF-8, ``\\n`` line ends,
+fixed number formatting); only ``datapackage.json`` carries timestamps and the source
+revision.
+"""
+
+from __future__ import annotations
+
+import csv
+import datetime as _dt
+import hashlib
+import io
+import json
+import os
+import platform
+import shutil
+import subprocess
+import tempfile
+from collections.abc import Iterable
+from pathlib import Path
+from typing import Any
+
+from .._version import __version__
+from ..errors import InputError
+from ..lattices import Lattice
+from .build import Row
+
+CONVENTIONS = {
+    "hopping": "amplitude +1 between nearest neighbours; G(E; r) = <0|(E - H)^-1|r>",
+    "resistance": "unit resistors on every nearest-neighbour bond of the infinite lattice; "
+                  "R(r) between the origin and site r",
+    "digits": "significant decimal digits, correctly rounded (ties cannot occur for "
+              "irrational values; exact rationals round half to even)",
+    "error_bound": "bound on |value - true value|: half a unit in the last printed place",
+    "agreement_digits": "floor(-log10(|x - y| / |x|)) between the exact form's value and the "
+                        "independent method's, capped at the table's digits",
+    "caveat": "values describe idealised infinite lattices; they are no substitute for the "
+              "engineering analysis of a real network under local codes and practice",
+}
+
+
+def _utc_now() -> str:
+    return _dt.datetime.now(_dt.UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
+
+
+def _source_revision() -> str | None:
+    here = Path(__file__).resolve().parent
+    try:
+        out = subprocess.run(["git", "-C", str(here), "rev-parse", "HEAD"], capture_output=True,
+                             text=True, timeout=5, check=False)
+    except (OSError, subprocess.SubprocessError):
+        return None
+    rev = out.stdout.strip()
+    return rev if out.returncode == 0 and len(rev) == 40 else None
+
+
+def _library_versions() -> dict[str, str]:
+    import flint
+    import gmpy2
+    import mpmath
+    import numpy
+
+    return {
+        "python": platform.python_version(),
+        "mpmath": mpmath.__version__,
+        "gmpy2": gmpy2.version(),
+        "python-flint": flint.__version__,
+        "numpy": numpy.__version__,
+    }
+
+
+class _Hashing(io.RawIOBase):
+    """Text sink that writes UTF-8 bytes to a file while hashing and counting them."""
+
+    def __init__(self, path: Path) -> None:
+        self.f = open(path, "wb")  # noqa: SIM115 - closed in close()
+        self.h = hashlib.sha256()
+        self.n = 0
+
+    def write_text(self, s: str) -> None:
+        b = s.encode("utf-8")
+        self.f.write(b)
+        self.h.update(b)
+        self.n += len(b)
+
+    def close(self) -> None:
+        self.f.close()
+        super().close()
+
+
+def check_output_dir(out: Path, force: bool) -> None:
+    """Refuse an existing non-empty directory (unless force), a file in the way, or a parent
+    we cannot write to — before any work starts."""
+    if out.exists() and not out.is_dir():
+        raise InputError(f"{out} exists and is not a directory")
+    if out.is_dir() and any(out.iterdir()) and not force:
+        raise InputError(f"output directory {out} exists and is not empty (use --force to "
+                         "replace it)")
+    parent = out.resolve().parent
+    probe = parent
+    while not probe.exists():
+        probe = probe.parent
+    if not probe.is_dir() or not os.access(probe, os.W_OK | os.X_OK):
+        raise InputError(f"cannot write to {probe}")
+
+
+def write_table(out: Path, lattice: Lattice, quantity: str, rows: Iterable[Row],
+                meta: dict[str, Any], force: bool = False) -> dict[str, Any]:
+    """Write the three files into a fresh temporary directory beside ``out``, then move it
+    into place.  On any error or interruption the temporary directory is removed and ``out``
+    is left as it was."""
+    check_output_dir(out, force)
+    parent = out.resolve().parent
+    try:
+        parent.mkdir(parents=True, exist_ok=True)
+        tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.tmp-", dir=parent))
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(tmp, 0o777 & ~umask)  # mkdtemp makes it private; a table is for sharing
+    except OSError as e:
+        raise InputError(f"cannot write to {parent}: {e.strerror}") from None
+    try:
+        started = _utc_now()
+        summary = _write_files(tmp, lattice, quantity, rows, meta)
+        ended = _utc_now()
+        descriptor = _descriptor(lattice, quantity, meta, summary, started, ended)
+        with open(tmp / "datapackage.json", "w", encoding="utf-8", newline="\n") as f:
+            json.dump(descriptor, f, indent=2, ensure_ascii=False)
+            f.write("\n")
+        _replace_dir(tmp, out)
+    except BaseException:
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise
+    return descriptor
+
+
+def _replace_dir(tmp: Path, out: Path) -> None:
+    if out.exists():
+        if out.is_dir() and not any(out.iterdir()):
+            out.rmdir()
+        else:
+            old = Path(tempfile.mkdtemp(prefix=f".{out.name}.old-", dir=out.resolve().parent))
+            old.rmdir()
+            os.rename(out, old)
+            os.rename(tmp, out)
+            shutil.rmtree(old, ignore_errors=True)
+            return
+    os.rename(tmp, out)
+
+
+def _fields(lattice: Lattice) -> list[dict[str, Any]]:
+    coords = [{"name": c, "type": "integer",
+               "description": f"site coordinate {c} ({lattice.description})"}
+              for c in lattice.coordinate_names]
+    return coords + [
+        {"name": "value", "type": "string",
+         "description": "decimal value, correctly rounded to the table's significant digits "
+                        "(a string: a JSON number or a spreadsheet would round it)"},
+        {"name": "exact", "type": "string",
+         "description": "exact form in sympy syntax (empty where none is known)"},
+        {"name": "exact_how", "type": "string",
+         "description": "derived (proven recurrence) or identified (integer-relation search)"},
+        {"name": "error_bound", "type": "string",
+         "description": "bound on |value - true value| (half a unit in the last place)"},
+        {"name": "methods", "type": "string",
+         "description": "independent methods that confirmed the value, separated by ';'"},
+        {"name": "agreement_digits", "type": "integer",
+         "description": "significant digits on which those methods agree"},
+    ]
+
+
+def _write_files(tmp: Path, lattice: Lattice, quantity: str, rows: Iterable[Row],
+                 meta: dict[str, Any]) -> dict[str, Any]:
+    names = [f["name"] for f in _fields(lattice)]
+    csv_sink = _Hashing(tmp / "values.csv")
+    json_sink = _Hashing(tmp / "values.json")
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow(names)
+    csv_sink.write_text(buf.getvalue())
+    head = {"lattice": lattice.name, "quantity": quantity, "digits": meta["digits"],
+            "extent": meta["extent"], "coordinates": list(lattice.coordinate_names)}
+    json_sink.write_text(json.dumps(head, ensure_ascii=False)[:-1] + ', "rows": [')
+    count = 0
+    min_agree: int | None = None
+    full_rows = 0
+    prev_site: tuple[int, ...] | None = None
+    try:
+        for r in rows:
+            if prev_site is not None and r.site <= prev_site:
+                raise AssertionError(f"rows out of order: {r.site} after {prev_site}")
+            prev_site = r.site
+            buf.seek(0)
+            buf.truncate()
+            w.writerow([*r.site, r.value, r.exact, r.exact_how, r.error_bound, r.methods,
+                        r.agreement_digits])
+            csv_sink.write_text(buf.getvalue())
+            obj = {"site": list(r.site), "value": r.value, "exact": r.exact,
+                   "exact_how": r.exact_how, "error_bound": r.error_bound,
+                   "methods": r.methods.split(";"), "agreement_digits": r.agreement_digits}
+            json_sink.write_text(("\n" if count == 0 else ",\n")
+                                 + json.dumps(obj, ensure_ascii=False))
+            count += 1
+            if r.methods != "definition":
+                min_agree = r.agreement_digits if min_agree is None else min(min_agree,
+                                                                            r.agreement_digits)
+                if "quadrature-float64" not in r.methods:
+                    full_rows += 1
+        json_sink.write_text("\n]}\n")
+    finally:
+        csv_sink.close()
+        json_sink.close()
+    return {
+        "rows": count,
+        "min_agreement_digits": min_agree,
+        "rows_checked_at_full_digits": full_rows,
+        "files": {
+            "values.csv": (csv_sink.h.hexdigest(), csv_sink.n),
+            "values.json": (json_sink.h.hexdigest(), json_sink.n),
+        },
+    }
+
+
+def table_id(lattice: str, quantity: str) -> str:
+    return f"{lattice}-{quantity}"
+
+
+def _descriptor(lattice: Lattice, quantity: str, meta: dict[str, Any], summary: dict[str, Any],
+                started: str, ended: str) -> dict[str, Any]:
+    csv_hash, csv_bytes = summary["files"]["values.csv"]
+    json_hash, json_bytes = summary["files"]["values.json"]
+    tid = table_id(lattice.name, quantity)
+    return {
+        "$schema": "https://datapackage.org/profiles/2.0/datapackage.json",
+        "name": tid,
+        "title": f"{quantity} of the infinite {lattice.name} lattice, extent {meta['extent']}, "
+                 f"{meta['digits']} digits",
+        "description": "Generated by latgreen; never edit by hand. " + CONVENTIONS["caveat"],
+        "version": meta.get("version", "1"),
+        "created": ended,
+        "licenses": [{"name": "CC0-1.0",
+                      "path": "https://creativecommons.org/publicdomain/zero/1.0/",
+                      "title": "CC0 1.0"}],
+        "resources": [
+            {
+                "name": "values",
+                "path": "values.csv",
+                "type": "table",
+                "format": "csv",
+                "mediatype": "text/csv",
+                "encoding": "utf-8",
+                "bytes": csv_bytes,
+                "hash": f"sha256:{csv_hash}",
+                "dialect": {"$schema": "https://datapackage.org/profiles/2.0/tabledialect.json",
+                            "delimiter": ",", "lineTerminator": "\n", "header": True},
+                "schema": {
+                    "$schema": "https://datapackage.org/profiles/2.0/tableschema.json",
+                    "fields": _fields(lattice),
+                    "primaryKey": list(lattice.coordinate_names),
+                },
+            },
+            {
+                "name": "values-json",
+                "path": "values.json",
+                "type": "json",
+                "format": "json",
+                "mediatype": "application/json",
+                "encoding": "utf-8",
+                "bytes": json_bytes,
+                "hash": f"sha256:{json_hash}",
+            },
+        ],
+        "prov:wasGeneratedBy": {
+            "prov:type": "latgreen table build",
+            "prov:startedAtTime": started,
+            "prov:endedAtTime": ended,
+            "prov:wasAssociatedWith": {
+                "prov:type": "prov:SoftwareAgent",
+                "name": "latgreen",
+                "version": __version__,
+                "source_revision": _source_revision(),
+            },
+            "prov:used": {k: meta[k] for k in ("lattice", "quantity", "extent", "digits",
+                                               "verify")},
+        },
+        "latgreen": {
+            "table_id": tid,
+            "lattice": lattice.name,
+            "quantity": quantity,
+            "extent": meta["extent"],
+            "region": meta["region"],
+            "digits": meta["digits"],
+            "verify": meta["verify"],
+            "methods": meta["methods"],
+            "conventions": CONVENTIONS,
+            "libraries": _library_versions(),
+            "cross_check": {
+                "rows": summary["rows"],
+                "rows_checked_at_full_digits": summary["rows_checked_at_full_digits"],
+                "min_agreement_digits": summary["min_agreement_digits"],
+            },
+        },
+    }
+
+
