@@ -7,6 +7,7 @@ methods gives exit status 1.  Data goes to stdout, progress and messages to stde
 from __future__ import annotations
 
 import argparse
+import contextlib
 import json
 import sys
 from collections.abc import Sequence
@@ -138,11 +139,9 @@ def _cmd_build(a: argparse.Namespace) -> int:
     for lattice, quantity, *_ in CATALOGUE:
         pkg = out / f"{lattice}-{quantity}" / "datapackage.json"
         if pkg.is_file():
-            try:
+            with contextlib.suppress(ValueError, KeyError, TypeError):
                 before[pkg.parent.name] = {r["path"]: r.get("hash") for r in
                                            json.loads(pkg.read_text())["resources"]}
-            except (ValueError, KeyError, TypeError):
-                pass
     descriptors = build_catalogue(out, progress=not a.quiet)
     rows = []
     for d in descriptors:

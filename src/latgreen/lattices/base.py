@@ -85,6 +85,6 @@ def _as_int(name: str, value: object) -> int:
         except ValueError:
             raise InputError(f"coordinate {name} must be an integer, got {value!r}") from None
     try:
-        return operator.index(value)  # type: ignore[call-overload,no-any-return]
+        return operator.index(value)  # type: ignore[arg-type]
     except TypeError:
         raise InputError(f"coordinate {name} must be an integer, got {value!r}") from None

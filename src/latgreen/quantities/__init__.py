@@ -117,8 +117,8 @@ def resistance(lattice: str, site: Sequence[object], digits: int = 50) -> Result
     lat = provider.lattice
     s = lat.site(site)
     c = lat.canonical(s)
-    common = dict(lattice=lat.name, quantity="resistance", site=s, canonical_site=c,
-                  digits=digits)
+    common: dict[str, Any] = dict(lattice=lat.name, quantity="resistance", site=s,
+                                  canonical_site=c, digits=digits)
     if not any(c):
         return Result(**common, value="0", exact=ExactForm((Fraction(0),), (), "derived"),
                       error_bound="0", methods=("definition",), agreement_digits=digits)

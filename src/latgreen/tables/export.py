@@ -102,8 +102,12 @@ def check_output_dir(out: Path, force: bool) -> None:
     probe = parent
     while not probe.exists():
         probe = probe.parent
-    if not probe.is_dir() or not os.access(probe, os.W_OK | os.X_OK):
-        raise InputError(f"cannot write to {probe}")
+    if not probe.is_dir():
+        raise InputError(f"cannot write to {probe}: not a directory")
+    try:  # os.access says yes to root everywhere; only an attempt tells
+        tempfile.TemporaryDirectory(prefix=".latgreen-probe-", dir=probe).cleanup()
+    except OSError as e:
+        raise InputError(f"cannot write to {probe}: {e.strerror}") from None
 
 
 def write_table(out: Path, lattice: Lattice, quantity: str, rows: Iterable[Row],

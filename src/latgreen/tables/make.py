@@ -35,7 +35,15 @@ def available_memory() -> int:
 
 
 def _gib(n: float) -> str:
-    return f"{n / 2**30:,.1f} GiB"
+    """Human-readable size.
+
+    >>> _gib(3 * 2**30), _gib(5 * 2**20), _gib(2000)
+    ('3.0 GiB', '5.0 MiB', '2.0 KiB')
+    """
+    for unit, k in (("TiB", 40), ("GiB", 30), ("MiB", 20), ("KiB", 10)):
+        if n >= 2**k:
+            return f"{n / 2**k:,.1f} {unit}"
+    return f"{n:.0f} bytes"
 
 
 def check_extent(provider: Provider, extent: object) -> int:

@@ -1,0 +1,142 @@
+"""The command line through a subprocess, as users run it."""
+
+from __future__ import annotations
+
+import json
+import os
+import stat
+import sys
+
+import pytest
+
+from conftest import run_cli
+
+
+def test_resistance_plain_value():
+    # 46/(3 pi) - 4: Atkinson & van Steenwijk, Am. J. Phys. 67, 486 (1999), Table I
+    p = run_cli("resistance", "square", "3", "1", "--digits", "20")
+    assert p.returncode == 0, p.stderr
+    assert p.stdout == "0.88075158815145696358\n"
+
+
+def test_resistance_exact():
+    p = run_cli("resistance", "square", "3", "1", "--exact")
+    assert p.returncode == 0 and p.stdout == "46/(3*pi) - 4\n"  # Atkinson & van Steenwijk 1999
+
+
+def test_resistance_json_has_the_contract_keys():
+    p = run_cli("resistance", "square", "-1", "-3", "--digits", "25", "--json")
+    assert p.returncode == 0, p.stderr
+    d = json.loads(p.stdout)
+    for key in ("lattice", "quantity", "site", "digits", "value", "exact", "error_bound",
+                "methods", "agreement_digits"):
+        assert key in d
+    assert d["site"] == [-1, -3] and d["canonical_site"] == [3, 1]
+    assert isinstance(d["value"], str) and len(d["value"].replace("0.", "", 1)) == 25
+    assert d["exact"] == "46/(3*pi) - 4"  # Atkinson & van Steenwijk (1999), Table I
+    assert d["agreement_digits"] == 25 and d["methods"] == ["recurrence", "quadrature"]
+
+
+def test_check_exits_zero_on_agreement():
+    p = run_cli("check", "square", "--extent", "12", "--digits", "30", "--quiet")
+    assert p.returncode == 0, p.stderr
+    assert "disagreements" in p.stdout
+
+
+def test_check_json():
+    p = run_cli("check", "square", "--extent", "6", "--digits", "20", "--json", "--quiet")
+    d = json.loads(p.stdout)
+    assert d["ok"] is True and d["sites"] == 28 and d["failures"] == []
+
+
+def test_table_writes_the_three_files(tmp_path):
+    out = tmp_path / "t"
+    p = run_cli("table", "square", "--quantity", "resistance", "--extent", "8", "--digits",
+                "30", "--out", str(out))
+    assert p.returncode == 0, p.stderr
+    assert sorted(x.name for x in out.iterdir()) == ["datapackage.json", "values.csv",
+                                                     "values.json"]
+    lines = (out / "values.csv").read_text().splitlines()
+    assert len(lines) == 1 + 45
+
+
+def test_lattices_lists_square():
+    p = run_cli("lattices")
+    assert p.returncode == 0 and "square" in p.stdout
+
+
+def _one_line_error(p):
+    assert p.returncode == 2, (p.returncode, p.stdout, p.stderr)
+    assert "Traceback" not in p.stderr
+    lines = p.stderr.strip().splitlines()
+    assert len(lines) == 1 and lines[0].startswith("latgreen: error:"), p.stderr
+    return lines[0]
+
+
+@pytest.mark.parametrize(("args", "needle"), [
+    (("resistance", "hexagonal", "1", "0"), "unknown lattice"),
+    (("resistance", "triangular", "1", "0"), "not implemented yet"),
+    (("resistance", "square", "1"), "2 coordinates"),
+    (("resistance", "square", "1", "0", "0"), "2 coordinates"),
+    (("resistance", "square", "1.5", "0"), "must be an integer"),
+    (("resistance", "square", "one", "0"), "must be an integer"),
+    (("resistance", "square", "1", "0", "--digits", "0"), "positive"),
+    (("resistance", "square", "1", "0", "--digits", "-3"), "positive"),
+    (("resistance", "square", "1", "0", "--digits", "1001"), "ceiling"),
+    (("resistance", "square", "1", "0", "--digits", "many"), "digits must be an integer"),
+    (("resistance", "square", "1", "0", "--quantity", "x"), "unrecognized"),
+    (("table", "square", "--extent", "-1", "--out", "x"), "extent must be >= 0"),
+    (("table", "square", "--extent", "200000", "--out", "x"), "would need about"),
+    (("table", "square", "--extent", "3", "--quantity", "green", "--out", "x"),
+     "unknown quantity"),
+    (("check", "square", "--extent", "-2"), "extent must be >= 0"),
+    (("resistance", "square", "9000", "0", "--digits", "60"), "at most --digits"),
+])
+def test_bad_input_is_one_line_and_exit_2(args, needle, tmp_path):
+    p = run_cli(*args, cwd=tmp_path)
+    assert needle in _one_line_error(p)
+    assert not any(tmp_path.iterdir())  # nothing was written
+
+
+def test_existing_non_empty_output_dir_is_refused_unless_force(tmp_path):
+    out = tmp_path / "t"
+    out.mkdir()
+    (out / "keep.txt").write_text("mine")
+    p = run_cli("table", "square", "--extent", "3", "--digits", "10", "--out", str(out))
+    assert "not empty" in _one_line_error(p)
+    assert (out / "keep.txt").read_text() == "mine"
+    p = run_cli("table", "square", "--extent", "3", "--digits", "10", "--out", str(out),
+                "--force", "--quiet")
+    assert p.returncode == 0, p.stderr
+    assert not (out / "keep.txt").exists() and (out / "values.csv").exists()
+
+
+def test_empty_existing_output_dir_is_used(tmp_path):
+    out = tmp_path / "t"
+    out.mkdir()
+    p = run_cli("table", "square", "--extent", "2", "--digits", "10", "--out", str(out),
+                "--quiet")
+    assert p.returncode == 0, p.stderr
+
+
+def test_output_path_that_is_a_file(tmp_path):
+    f = tmp_path / "f"
+    f.write_text("x")
+    p = run_cli("table", "square", "--extent", "2", "--out", str(f))
+    assert "not a directory" in _one_line_error(p)
+
+
+@pytest.mark.skipif(sys.platform == "win32" or os.geteuid() == 0,
+                    reason="root can write anywhere; see the read-only-filesystem test")
+def test_unwritable_directory(tmp_path):  # pragma: no cover - CI runs as root
+    ro = tmp_path / "ro"
+    ro.mkdir()
+    ro.chmod(stat.S_IRUSR | stat.S_IXUSR)
+    p = run_cli("table", "square", "--extent", "2", "--out", str(ro / "t"))
+    assert "cannot write" in _one_line_error(p)
+
+
+def test_unwritable_path_under_proc():
+    # /proc refuses new directories even to root
+    p = run_cli("table", "square", "--extent", "2", "--out", "/proc/latgreen-test/t")
+    assert "cannot write" in _one_line_error(p)

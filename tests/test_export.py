@@ -1,0 +1,160 @@
+"""Table files: round trip, hashes, Frictionless validation, determinism, atomicity."""
+
+from __future__ import annotations
+
+import csv
+import hashlib
+import json
+import os
+import signal
+import subprocess
+import sys
+import time
+from fractions import Fraction
+from pathlib import Path
+
+import pytest
+import sympy
+
+from conftest import ROOT
+from latgreen.lattices.square import SQUARE
+from latgreen.quantities import get_provider
+from latgreen.tables.build import Row, rows
+from latgreen.tables.export import write_table
+from latgreen.tables.make import TableRequest, make_table
+
+frictionless = pytest.importorskip("frictionless")
+
+
+@pytest.fixture(scope="module")
+def table(tmp_path_factory) -> Path:
+    out = tmp_path_factory.mktemp("tables") / "sq"
+    make_table(TableRequest("square", "resistance", 12, 35, out, progress=False))
+    return out
+
+
+def test_hashes_and_bytes_match_the_descriptor(table):
+    d = json.loads((table / "datapackage.json").read_text())
+    assert d["$schema"].endswith("/2.0/datapackage.json")
+    for res in d["resources"]:
+        data = (table / res["path"]).read_bytes()
+        assert res["bytes"] == len(data)
+        assert res["hash"] == "sha256:" + hashlib.sha256(data).hexdigest()
+
+
+def test_frictionless_validates_the_package(table):
+    report = frictionless.Package(str(table / "datapackage.json")).validate()
+    assert report.valid, report.flatten(["type", "note"])
+
+
+def test_tampered_file_is_detected(table, tmp_path):
+    copy = tmp_path / "copy"
+    copy.mkdir()
+    for f in table.iterdir():
+        (copy / f.name).write_bytes(f.read_bytes())
+    text = (copy / "values.csv").read_text()
+    (copy / "values.csv").write_text(text.replace("0.5000", "0.5001", 1))
+    report = frictionless.Package(str(copy / "datapackage.json")).validate()
+    assert not report.valid
+    assert "hash-count" in {e for e in report.flatten(["type"]) for e in e}
+
+
+def test_round_trip_values_and_exact_forms(table):
+    with open(table / "values.csv", newline="", encoding="utf-8") as f:
+        data = list(csv.DictReader(f))
+    assert len(data) == SQUARE.region_size(12) == 91
+    sites = [(int(r["m"]), int(r["n"])) for r in data]
+    assert sites == sorted(sites) == list(SQUARE.region(12))
+    js = json.loads((table / "values.json").read_text())
+    assert [tuple(r["site"]) for r in js["rows"]] == sites
+    for r, j in zip(data, js["rows"], strict=True):
+        assert r["value"] == j["value"] and r["exact"] == j["exact"]
+        if r["methods"] == "definition":
+            continue
+        # the exact form, parsed back by sympy, rounds to the tabulated value
+        v = sympy.N(sympy.sympify(r["exact"]), 60)
+        assert abs(Fraction(str(v)) - Fraction(r["value"])) <= Fraction(r["error_bound"]) * 2
+        assert int(r["agreement_digits"]) == 35
+        assert r["methods"] == "recurrence;quadrature"
+
+
+def test_provenance_block(table):
+    d = json.loads((table / "datapackage.json").read_text())
+    prov = d["prov:wasGeneratedBy"]
+    assert prov["prov:wasAssociatedWith"]["prov:type"] == "prov:SoftwareAgent"
+    assert prov["prov:startedAtTime"] <= prov["prov:endedAtTime"]
+    assert d["latgreen"]["cross_check"]["min_agreement_digits"] == 35
+    assert "infinite lattices" in d["latgreen"]["conventions"]["caveat"]
+
+
+def test_data_bytes_are_deterministic(table, tmp_path):
+    again = tmp_path / "again"
+    make_table(TableRequest("square", "resistance", 12, 35, again, progress=False))
+    for name in ("values.csv", "values.json"):
+        assert (again / name).read_bytes() == (table / name).read_bytes()
+
+
+def test_fast_verification_records_what_was_checked(tmp_path):
+    out = tmp_path / "fast"
+    d = make_table(TableRequest("square", "resistance", 40, 30, out, verify="fast",
+                                progress=False))
+    cc = d["latgreen"]["cross_check"]
+    assert cc["rows"] == 861 and 0 < cc["rows_checked_at_full_digits"] < 861
+    with open(out / "values.csv", newline="") as f:
+        data = list(csv.DictReader(f))
+    floats = [r for r in data if r["methods"] == "recurrence;quadrature-float64"]
+    assert floats and all(12 <= int(r["agreement_digits"]) < 30 for r in floats)
+
+
+def test_interrupted_write_leaves_no_partial_files(tmp_path):
+    out = tmp_path / "t"
+    provider = get_provider("square", "resistance")
+
+    def broken():
+        for i, r in enumerate(rows(provider, 10, 20, "full")):
+            if i == 30:
+                raise KeyboardInterrupt
+            yield r
+
+    meta = {"lattice": "square", "quantity": "resistance", "extent": 10, "digits": 20,
+            "verify": "full", "region": "", "methods": {}}
+    with pytest.raises(KeyboardInterrupt):
+        write_table(out, SQUARE, "resistance", broken(), meta)
+    assert list(tmp_path.iterdir()) == []
+
+
+def test_failed_rewrite_keeps_the_old_table(tmp_path, table):
+    out = tmp_path / "t"
+    out.mkdir()
+    for f in table.iterdir():
+        (out / f.name).write_bytes(f.read_bytes())
+    before = {f.name: f.read_bytes() for f in out.iterdir()}
+
+    def broken():
+        yield Row((0, 0), "0", "0", "derived", "0", "definition", 5)
+        raise RuntimeError("simulated failure")
+
+    meta = {"lattice": "square", "quantity": "resistance", "extent": 1, "digits": 5,
+            "verify": "full", "region": "", "methods": {}}
+    with pytest.raises(RuntimeError):
+        write_table(out, SQUARE, "resistance", broken(), meta, force=True)
+    assert {f.name: f.read_bytes() for f in out.iterdir()} == before
+    assert [p.name for p in tmp_path.iterdir()] == ["t"]
+
+
+def test_sigint_during_a_build_leaves_nothing(tmp_path):
+    env = dict(os.environ, PYTHONPATH=str(ROOT / "src"))
+    out = tmp_path / "big"
+    p = subprocess.Popen([sys.executable, "-m", "latgreen", "table", "square", "--extent",
+                          "400", "--digits", "60", "--out", str(out)], env=env,
+                         stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    deadline = time.monotonic() + 60
+    while time.monotonic() < deadline and not any(tmp_path.glob(".big.tmp-*/values.csv")):
+        time.sleep(0.05)
+    assert any(tmp_path.glob(".big.tmp-*")), "the build never started writing"
+    time.sleep(0.5)
+    p.send_signal(signal.SIGINT)
+    _, err = p.communicate(timeout=60)
+    assert p.returncode == 130, err
+    assert "interrupted" in err and "Traceback" not in err
+    assert list(tmp_path.iterdir()) == []
