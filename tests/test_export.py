@@ -142,19 +142,27 @@ def test_failed_rewrite_keeps_the_old_table(tmp_path, table):
     assert [p.name for p in tmp_path.iterdir()] == ["t"]
 
 
-def test_sigint_during_a_build_leaves_nothing(tmp_path):
+@pytest.mark.parametrize(("sig", "code", "word"), [
+    (signal.SIGINT, 130, "interrupted"),   # Ctrl-C on a terminal: the whole process group
+    (signal.SIGTERM, 143, "terminated"),   # kill, cron timeouts: the main process only
+])
+def test_interrupting_a_parallel_build_leaves_nothing(tmp_path, sig, code, word):
     env = dict(os.environ, PYTHONPATH=str(ROOT / "src"))
     out = tmp_path / "big"
     p = subprocess.Popen([sys.executable, "-m", "latgreen", "table", "square", "--extent",
-                          "400", "--digits", "60", "--out", str(out)], env=env,
-                         stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+                          "400", "--digits", "60", "--out", str(out), "--workers", "2"],
+                         env=env, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,
+                         start_new_session=True)
     deadline = time.monotonic() + 60
     while time.monotonic() < deadline and not any(tmp_path.glob(".big.tmp-*/values.csv")):
         time.sleep(0.05)
     assert any(tmp_path.glob(".big.tmp-*")), "the build never started writing"
     time.sleep(0.5)
-    p.send_signal(signal.SIGINT)
+    if sig == signal.SIGINT:
+        os.killpg(p.pid, sig)
+    else:
+        p.send_signal(sig)
     _, err = p.communicate(timeout=60)
-    assert p.returncode == 130, err
-    assert "interrupted" in err and "Traceback" not in err
+    assert p.returncode == code, err
+    assert word in err and "Traceback" not in err
     assert list(tmp_path.iterdir()) == []

@@ -9,7 +9,9 @@ from __future__ import annotations
 import argparse
 import contextlib
 import json
+import signal
 import sys
+import threading
 from collections.abc import Sequence
 from pathlib import Path
 from typing import NoReturn
@@ -72,6 +74,8 @@ def _parser() -> argparse.ArgumentParser:
     t.add_argument("--no-exact", action="store_true",
                    help="leave the exact forms out of the files (they grow with the extent)")
     t.add_argument("--quiet", action="store_true", help="no progress display")
+    t.add_argument("--workers", type=_extent, default=None,
+                   help="processes for the independent checks (default: the machine's cores)")
 
     c = sub.add_parser("check", help="run the methods against each other over a region")
     c.add_argument("lattice")
@@ -105,7 +109,7 @@ def _cmd_resistance(a: argparse.Namespace) -> int:
 
 def _cmd_table(a: argparse.Namespace) -> int:
     d = make_table(TableRequest(a.lattice, a.quantity, a.extent, a.digits, a.out, a.force,
-                                a.verify, not a.no_exact, not a.quiet))
+                                a.verify, not a.no_exact, not a.quiet, a.workers))
     cc = d["latgreen"]["cross_check"]
     print(f"{a.out}: {cc['rows']} rows, {cc['rows_checked_at_full_digits']} checked at "
           f"{a.digits} digits, minimum agreement {cc['min_agreement_digits']} digits",
@@ -169,8 +173,18 @@ COMMANDS = {"resistance": _cmd_resistance, "table": _cmd_table, "check": _cmd_ch
             "build": _cmd_build, "lattices": _cmd_lattices}
 
 
+class Terminated(BaseException):
+    """SIGTERM, turned into an exception so that clean-up runs as for Ctrl-C."""
+
+
+def _on_sigterm(signum: int, frame: object) -> None:
+    raise Terminated
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     args = _parser().parse_args(argv)
+    if threading.current_thread() is threading.main_thread():
+        signal.signal(signal.SIGTERM, _on_sigterm)
     try:
         return COMMANDS[args.command](args)
     except VerificationError as e:
@@ -189,6 +203,9 @@ def main(argv: Sequence[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("latgreen: interrupted; no partial output was left behind", file=sys.stderr)
         return 130
+    except Terminated:
+        print("latgreen: terminated; no partial output was left behind", file=sys.stderr)
+        return 143
 
 
 if __name__ == "__main__":  # pragma: no cover

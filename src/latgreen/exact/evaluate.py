@@ -31,11 +31,31 @@ MAX_BITS = 4_000_000  # refuse beyond this working precision (about 1.2 million 
 
 @dataclass(frozen=True)
 class Evaluated:
-    """A correctly rounded value with the working precision that certified it."""
+    """A correctly rounded value with the working precision that certified it.
+
+    The centre of the certified interval is ``center_num / 2^bits`` (for exact rationals,
+    ``bits`` is 0 and ``exact`` holds the value); it is kept as integers because building a
+    Fraction costs a gcd of big numbers, which a table of a million rows does not need.
+    """
 
     rounded: Rounded
     bits: int  # fixed-point bits used (0 for exact rationals)
-    center: Fraction  # centre of the certified interval (the exact value for rationals)
+    center_num: int
+    exact: Fraction | None = None
+
+    @property
+    def center(self) -> Fraction:
+        if self.exact is not None:
+            return self.exact
+        return Fraction(int(self.center_num), 1 << self.bits)
+
+    def center_float(self) -> float:
+        if self.exact is not None:
+            return float(self.exact)
+        shift = self.bits - 64
+        if shift <= 0:
+            return float(Fraction(int(self.center_num), 1 << self.bits))
+        return float(int(self.center_num) >> shift) / 2.0**64
 
 
 def _fixed_constants(basis: Sequence[Constant], dens: Sequence[int], bits: int) -> list[int]:
@@ -94,7 +114,7 @@ class FixedPointEvaluator:
                  strict=True) if not irr),
                 Fraction(0),
             )
-            return Evaluated(round_rational(exact, self.digits) if exact else ZERO, 0, exact)
+            return Evaluated(round_rational(exact, self.digits) if exact else ZERO, 0, 0, exact)
         bits = self.start_bits(nums)
         cs = [gmpy2.mpz(int(c)) for c in nums]
         err = sum(abs(c) for c in cs) + 1
@@ -103,11 +123,74 @@ class FixedPointEvaluator:
             v = sum(c * k for c, k in zip(cs, ks, strict=True))
             r = round_interval(int(v - err), int(v + err), 1 << bits, self.digits)
             if r is not None:
-                return Evaluated(r, bits, Fraction(int(v), 1 << bits))
+                return Evaluated(r, bits, v)
             bits = (bits + bits // 2 + 63) // 64 * 64
         raise PrecisionError(
             f"could not certify {self.digits} digits within {MAX_BITS} bits of working precision"
         )
+
+
+    def evaluate_many(self, rows: Sequence[Sequence[int]]) -> list[Evaluated]:
+        """Evaluate a batch of rows; the same results as :meth:`evaluate` row by row.
+
+        The fast path uses one precision and one error bound for the whole batch (the largest
+        sum_i |c_i|, valid for every row), a shift instead of a product for rational basis
+        elements with power-of-two denominators, and decides the rounding from the remainder:
+        with x = 10^k v and y = x + 2^(P-1), q = floor(y / 2^P) is the rounded digit string
+        of every point of the interval when errp <= y mod 2^P < 2^P - errp, where
+        errp = 10^k * err.  Rows it cannot settle (exact rationals, intervals on a rounding
+        boundary, values outside the decades tried) go through :meth:`evaluate`.
+        """
+        n = len(rows)
+        if n == 0:
+            return []
+        D = self.digits
+        mpz = gmpy2.mpz
+        rows = [tuple(c if isinstance(c, type(mpz(0))) else mpz(int(c)) for c in r)
+                for r in rows]
+        size = max(int(abs(c)).bit_length() for r in rows for c in r)
+        bits = (size + int(D * LOG2_10) + 40 + 63) // 64 * 64
+        ks = self._constants(bits)
+        ops: list[tuple[int, int]] = []  # (0, shift) or (1, factor) per basis element
+        for b, d, k in zip(self.basis, self.dens, ks, strict=True):
+            if b.name == "1" and d & (d - 1) == 0:
+                ops.append((0, bits - (d.bit_length() - 1)))
+            else:
+                ops.append((1, k))
+        err = sum(max(abs(r[i]) for r in rows) for i in range(len(self.basis))) + 1
+        one = mpz(1) << bits
+        mask = one - 1
+        half = one >> 1
+        lo_q, hi_q = 10 ** (D - 1), 10**D
+        decades = [(e, mpz(10) ** (D - 1 - e)) for e in (0, -1, 1, -2) if D - 1 - e >= 0]
+        irr_idx = [i for i, irr in enumerate(self._irrational) if irr]
+        out: list[Evaluated] = []
+        for r in rows:
+            if not any(r[i] for i in irr_idx):
+                out.append(self.evaluate(r))
+                continue
+            v = mpz(0)
+            for c, (kind, x) in zip(r, ops, strict=True):
+                v += (c << x) if kind == 0 else c * x
+            sign = 1
+            av = v
+            if v < 0:
+                sign, av = -1, -v
+            done = None
+            for e, p10 in decades:
+                y = av * p10 + half
+                q = y >> bits
+                if q < lo_q:
+                    continue
+                if q >= hi_q:
+                    break
+                rem = y & mask
+                errp = err * p10
+                if errp <= rem < one - errp:
+                    done = Evaluated(Rounded(sign, str(q), e), bits, v)
+                break
+            out.append(done if done is not None else self.evaluate(r))
+        return out
 
 
 def evaluate_form(form: ExactForm, digits: int) -> Evaluated:
@@ -120,3 +203,43 @@ def evaluate_form(form: ExactForm, digits: int) -> Evaluated:
     """
     nums, dens = form.integer_row()
     return FixedPointEvaluator(form.basis, dens, digits).evaluate(nums)
+
+
+def round_enclosures(values: Sequence[int], err: int, bits: int,
+                     digits: int) -> list[Evaluated | None]:
+    """Round fixed-point enclosures |x_k - values[k] / 2^bits| <= err / 2^bits to ``digits``
+    significant digits; None where the enclosure does not decide (the caller falls back to
+    an exact evaluation).  The values are first cut down to the bits the digits need (one
+    more unit of error), so the per-row work is on small integers.
+    """
+    keep = int(digits * LOG2_10) + 72
+    s = max(0, bits - keep)
+    e_small = (err >> s) + 2
+    b = bits - s
+    one = 1 << b
+    mask = one - 1
+    half = one >> 1
+    lo_q, hi_q = 10 ** (digits - 1), 10**digits
+    decades = [(e, 10 ** (digits - 1 - e), e_small * 10 ** (digits - 1 - e))
+               for e in (0, -1, 1, -2, 2) if digits - 1 - e >= 0]
+    out: list[Evaluated | None] = []
+    for big in values:
+        v = big >> s
+        if v == 0 and big == 0 and err == 0:
+            out.append(Evaluated(ZERO, 0, 0, Fraction(0)))
+            continue
+        sign, av = (1, v) if v >= 0 else (-1, -v)
+        done = None
+        for e, p10, errp in decades:
+            y = av * p10 + half
+            q = y >> b
+            if q < lo_q:
+                continue
+            if q >= hi_q:
+                break
+            rem = y & mask
+            if errp <= rem < one - errp and av > e_small:
+                done = Evaluated(Rounded(sign, str(q), e), b, v)
+            break
+        out.append(done)
+    return out

@@ -59,8 +59,9 @@ class ExactForm:
         return all(c == 0 for c, b in zip(self.coeffs, self.basis, strict=True) if b.name != "1")
 
     def __str__(self) -> str:
-        # irrational terms first, then the rational one: "46/(3*pi) - 4"
-        order = sorted(range(len(self.basis)), key=lambda i: self.basis[i].name == "1")
+        # positive terms first, irrational before rational: "46/(3*pi) - 4", "17/2 - 24/pi"
+        order = sorted(range(len(self.basis)),
+                       key=lambda i: (self.coeffs[i] < 0, self.basis[i].name == "1"))
         parts: list[str] = []
         for i in order:
             c = self.coeffs[i]

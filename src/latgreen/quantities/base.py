@@ -13,6 +13,7 @@ from dataclasses import dataclass
 
 import mpmath
 
+from ..exact.evaluate import Evaluated, FixedPointEvaluator
 from ..exact.forms import Constant, ExactForm
 from ..lattices import Lattice, Site
 
@@ -33,6 +34,15 @@ class Batch:
         return form_from_integers(self.nums[k], self.dens, self.basis, self.how)
 
 
+@dataclass
+class EvaluatedBatch:
+    """A batch with its values certified to the table's digits (and exact forms if asked)."""
+
+    sites: list[Site]
+    values: list[Evaluated]
+    forms: list[ExactForm] | None
+
+
 class Provider:
     """Base class: one lattice x one quantity."""
 
@@ -46,12 +56,27 @@ class Provider:
     def exact_form(self, site: Site) -> ExactForm | None:
         raise NotImplementedError
 
-    def quad_batch(self, batch: Batch, digits: int) -> list[mpmath.mpf]:
-        """High-precision independent values for every site of a batch."""
+    def evaluated_batches(self, extent: int, digits: int,
+                          with_exact: bool) -> Iterator[EvaluatedBatch]:
+        """Batches with certified values: by default the exact forms through the
+        fixed-point evaluator; a provider may override it with a faster enclosure."""
+        for b in self.batches(extent):
+            ev = FixedPointEvaluator(b.basis, b.dens, digits)
+            yield EvaluatedBatch(b.sites, ev.evaluate_many(b.nums),
+                                 [b.form(k) for k in range(len(b.sites))] if with_exact
+                                 else None)
+
+    def batch_sites(self, extent: int) -> Iterator[list[Site]]:
+        """The sites of each batch, in order, without computing anything (for planning)."""
+        for b in self.batches(extent):
+            yield b.sites
+
+    def quad_sites(self, sites: list[Site], digits: int) -> list[mpmath.mpf]:
+        """High-precision independent values for the sites of one batch."""
         raise NotImplementedError
 
-    def quad_float_batch(self, batch: Batch) -> Sequence[float]:
-        """float64 independent values (about 13+ digits) for every site of a batch."""
+    def quad_float_sites(self, sites: list[Site]) -> Sequence[float]:
+        """float64 independent values (about 13+ digits) for the sites of one batch."""
         raise NotImplementedError
 
     def quad(self, site: Site, digits: int) -> mpmath.mpf:

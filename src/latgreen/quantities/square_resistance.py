@@ -7,11 +7,12 @@ from collections.abc import Iterator, Sequence
 import mpmath
 
 from ..exact import square as exact_square
+from ..exact.evaluate import Evaluated, evaluate_form, round_enclosures
 from ..exact.forms import ExactForm
 from ..lattices import Site
 from ..lattices.square import SQUARE
 from ..methods import square_asymptotic, square_quadrature
-from .base import Batch, Provider
+from .base import Batch, EvaluatedBatch, Provider
 
 
 class SquareResistance(Provider):
@@ -28,23 +29,47 @@ class SquareResistance(Provider):
                 basis=exact_square.BASIS,
             )
 
+    def evaluated_batches(self, extent: int, digits: int,
+                          with_exact: bool) -> Iterator[EvaluatedBatch]:
+        """Values from the fixed-point enclosure of the recurrence (one integer per site, a
+        proven error bound per column); exact forms, if asked, from the rational recurrence
+        run alongside.  A row the enclosure cannot decide is evaluated from its exact form."""
+        bits = exact_square.enclosure_bits(extent, digits)
+        exact_cols = exact_square.columns(extent) if with_exact else None
+        for m, V, err in exact_square.enclosure_columns(extent, bits):
+            col = next(exact_cols) if exact_cols is not None else None
+            got = round_enclosures(V, err, bits, digits)
+            values: list[Evaluated] = []
+            for n, g in enumerate(got):
+                if g is None:
+                    form = col.form(n) if col is not None else exact_square.resistance_form(m, n)
+                    g = evaluate_form(form, digits)
+                values.append(g)
+            forms = [col.form(n) for n in range(m + 1)] if col is not None else None
+            yield EvaluatedBatch([(m, n) for n in range(m + 1)], values, forms)
+
     def exact_form(self, site: Site) -> ExactForm | None:
         m, n = site
         if m > self.exact_limit:
             return None
         return exact_square.resistance_form(m, n)
 
-    def quad_batch(self, batch: Batch, digits: int) -> list[mpmath.mpf]:
-        m = batch.sites[0][0]
-        if m == 0:
-            return [mpmath.mpf(0)]
-        return square_quadrature.column(m, [s[1] for s in batch.sites], digits)
+    def batch_sites(self, extent: int) -> Iterator[list[Site]]:
+        for m in range(extent + 1):
+            yield [(m, n) for n in range(m + 1)]
 
-    def quad_float_batch(self, batch: Batch) -> Sequence[float]:
-        m = batch.sites[0][0]
+    def quad_sites(self, sites: list[Site], digits: int) -> list[mpmath.mpf]:
+        m = sites[0][0]
         if m == 0:
-            return [0.0]
-        return [float(v) for v in square_quadrature.column_float(m)]
+            return [mpmath.mpf(0) for _ in sites]
+        return square_quadrature.column(m, [s[1] for s in sites], digits)
+
+    def quad_float_sites(self, sites: list[Site]) -> Sequence[float]:
+        m = sites[0][0]
+        if m == 0:
+            return [0.0 for _ in sites]
+        col = square_quadrature.column_float(m, max(s[1] for s in sites))
+        return [float(col[s[1]]) for s in sites]
 
     def quad(self, site: Site, digits: int) -> mpmath.mpf:
         return square_quadrature.resistance_quad(site[0], site[1], digits)

@@ -1,30 +1,45 @@
 """Compute and cross-check the rows of a table, batch by batch.
 
-Every row's value comes from its exact form, evaluated with a proven error term and
-correctly rounded (:mod:`latgreen.exact.evaluate`).  An independent method then confirms it:
+Every row's value is certified to the table's digits by the provider (an enclosure of the
+exact recurrence, or the exact form through the fixed-point evaluator: both carry a proven
+error term).  An independent method then confirms it:
 
 * ``full``: the high-precision quadrature at the table's digits, for every row; a row
   whose two values agree to fewer than ``digits`` digits stops the build;
 * ``fast``: the float64 quadrature for every row (at least ``FAST_MIN_AGREEMENT`` digits
-  required), plus the high-precision quadrature on a deterministic sample of batches (the
-  first ten, the last, and about twenty spread between), which must agree to all digits.
+  required), plus the high-precision quadrature on a deterministic sample of batches
+  (:func:`sampled`), which must agree to all digits.
 
 Each row records the methods that confirmed it and to how many digits they agree, so a
 reader of a ``fast`` table sees exactly which rows carry a full independent check.
+
+The independent checks need nothing from the exact side, so with ``workers`` > 1 they run in
+worker processes from the start while this process runs the recurrence; results are
+consumed in batch order, so the output does not depend on the number of workers.
 """
 
 from __future__ import annotations
 
-from collections.abc import Callable, Iterator
+import math
+import multiprocessing
+import os
+import signal
+import warnings
+from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass
+from fractions import Fraction
+from multiprocessing.pool import Pool
+from typing import Any
 
 from ..errors import VerificationError
-from ..exact.evaluate import FixedPointEvaluator
-from ..quantities import Provider, mpf_fraction
+from ..quantities import Provider
 from ..rounding import agreement_digits
+from .workers import check_job, ignore_sigint
 
 FAST_MIN_AGREEMENT = 12
+FLOAT_MAX_AGREEMENT = 15  # a float64 check cannot confirm more than this
 FULL_AUTO_LIMIT = 2_000_000  # "auto" picks full when sites * digits stays below this
+PARALLEL_MIN_SITES = 3000  # below this a worker pool costs more than it saves
 
 
 @dataclass(frozen=True)
@@ -45,48 +60,105 @@ def choose_verify(mode: str, sites: int, digits: int) -> str:
 
 
 def sampled(key: int, extent: int) -> bool:
-    """The batches a ``fast`` build checks at full precision."""
-    step = max(1, extent // 20)
-    return key <= 10 or key == extent or key % step == 0
+    """The batches a ``fast`` build checks at full precision: the first ten, the last, and
+    those at a quarter, half and three quarters of the extent."""
+    return key <= 10 or key == extent or key in {extent // 4, extent // 2, 3 * extent // 4}
+
+
+def default_workers() -> int:
+    return os.cpu_count() or 1
+
+
+def _pool(workers: int) -> Pool:
+    """A pool whose workers are all forked at once, with SIGINT blocked.
+
+    multiprocessing.Pool (unlike concurrent.futures) starts every worker in its constructor,
+    and a forked child keeps the parent's signal mask, so no worker ever sees the Ctrl-C that
+    a terminal sends to the whole process group: the main process alone handles it, then
+    terminates the pool.  Forking copies the loaded modules, so workers start in
+    milliseconds.  (forkserver and spawn start fresh interpreters that import everything
+    again, and an interruption during those imports printed tracebacks.)  Where fork is not
+    available, spawn.
+    """
+    if "fork" not in multiprocessing.get_all_start_methods() or not hasattr(
+            signal, "pthread_sigmask"):  # pragma: no cover - not POSIX
+        return multiprocessing.get_context("spawn").Pool(workers, initializer=ignore_sigint)
+    ctx = multiprocessing.get_context("fork")
+    old = signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGINT})
+    try:
+        with warnings.catch_warnings():
+            # Python 3.12+ warns about fork in a process with threads (numpy's BLAS pool);
+            # the workers only run our pure functions, and take no lock those threads hold
+            warnings.simplefilter("ignore", DeprecationWarning)
+            return ctx.Pool(workers, initializer=ignore_sigint)
+    finally:
+        signal.pthread_sigmask(signal.SIG_SETMASK, old)
+
+
+def _float_agreement(x: float, y: float, digits: int) -> int:
+    if x == y:
+        return min(digits, FLOAT_MAX_AGREEMENT)
+    rel = abs(x - y) / abs(x)
+    return max(0, min(digits, FLOAT_MAX_AGREEMENT, math.floor(-math.log10(rel))))
 
 
 def rows(provider: Provider, extent: int, digits: int, verify: str, with_exact: bool = True,
-         on_batch: Callable[[int], None] | None = None) -> Iterator[Row]:
+         on_batch: Callable[[int], None] | None = None, workers: int = 1) -> Iterator[Row]:
     """Yield the verified rows of the table in site order."""
-    for bi, batch in enumerate(provider.batches(extent)):
-        ev = FixedPointEvaluator(batch.basis, batch.dens, digits)
-        evaluated = [ev.evaluate(nums) for nums in batch.nums]
-        full = verify == "full" or sampled(bi, extent)
-        if full:
-            checks = [mpf_fraction(q) for q in provider.quad_batch(batch, digits)]
-            need = digits
-            method = "quadrature"
-        else:
-            from fractions import Fraction
-
-            checks = [Fraction(q) for q in provider.quad_float_batch(batch)]
-            need = min(FAST_MIN_AGREEMENT, digits)
-            method = "quadrature-float64"
-        for k, site in enumerate(batch.sites):
-            e = evaluated[k]
-            if not any(site):
-                agree, methods = digits, "definition"
+    name, quantity = provider.lattice.name, provider.quantity
+    plan = [(sites, verify == "full" or sampled(bi, extent))
+            for bi, sites in enumerate(provider.batch_sites(extent))]
+    total = sum(len(s) for s, _ in plan)
+    pool = _pool(workers) if workers > 1 and total >= PARALLEL_MIN_SITES else None
+    jobs = ((name, quantity, sites, digits, full) for sites, full in plan)
+    results: Iterator[list[Any]] = (pool.imap(check_job, jobs, chunksize=1)
+                                    if pool is not None else map(check_job, jobs))
+    ok = False
+    try:
+        for bi, eb in enumerate(provider.evaluated_batches(extent, digits, with_exact)):
+            sites, full = plan[bi]
+            if eb.sites != sites:  # pragma: no cover - a provider bug
+                raise AssertionError(f"batch {bi}: planned and computed sites differ")
+            checks: Sequence[Any] = next(results)
+            yield from _batch_rows(provider, eb, checks, full, digits, with_exact)
+            if on_batch is not None:
+                on_batch(len(sites))
+        ok = True
+    finally:
+        if pool is not None:
+            if ok:
+                pool.close()
             else:
-                agree = agreement_digits(e.center, checks[k], digits)
-                methods = f"recurrence;{method}"
-                if agree < need:
-                    raise VerificationError(
-                        f"{provider.lattice.name} {provider.quantity} at {site}: recurrence "
-                        f"and {method} agree to only {agree} digits (need {need})")
-            form = batch.form(k) if with_exact else None
-            yield Row(
-                site=site,
-                value=str(e.rounded),
-                exact=str(form) if form is not None else "",
-                exact_how=batch.how if with_exact else "",
-                error_bound=e.rounded.half_ulp(),
-                methods=methods,
-                agreement_digits=agree,
-            )
-        if on_batch is not None:
-            on_batch(len(batch.sites))
+                pool.terminate()
+            pool.join()
+
+
+def _batch_rows(provider: Provider, eb: Any, checks: Sequence[Any], full: bool, digits: int,
+                with_exact: bool) -> Iterator[Row]:
+    method = "quadrature" if full else "quadrature-float64"
+    need = digits if full else min(FAST_MIN_AGREEMENT, digits)
+    for k, site in enumerate(eb.sites):
+        e = eb.values[k]
+        if not any(site):
+            agree, methods = digits, "definition"
+        else:
+            if full:
+                agree = agreement_digits(e.center, checks[k] if isinstance(checks[k], Fraction)
+                                         else Fraction(checks[k]), digits)
+            else:
+                agree = _float_agreement(e.center_float(), float(checks[k]), digits)
+            methods = f"recurrence;{method}"
+            if agree < need:
+                raise VerificationError(
+                    f"{provider.lattice.name} {provider.quantity} at {site}: recurrence and "
+                    f"{method} agree to only {agree} digits (need {need})")
+        form = eb.forms[k] if with_exact and eb.forms is not None else None
+        yield Row(
+            site=site,
+            value=str(e.rounded),
+            exact=str(form) if form is not None else "",
+            exact_how=form.how if form is not None else "",
+            error_bound=e.rounded.half_ulp(),
+            methods=methods,
+            agreement_digits=agree,
+        )

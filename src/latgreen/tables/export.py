@@ -8,7 +8,6 @@ revision.
 
 from __future__ import annotations
 
-import csv
 import datetime as _dt
 import hashlib
 import io
@@ -180,10 +179,7 @@ def _write_files(tmp: Path, lattice: Lattice, quantity: str, rows: Iterable[Row]
     names = [f["name"] for f in _fields(lattice)]
     csv_sink = _Hashing(tmp / "values.csv")
     json_sink = _Hashing(tmp / "values.json")
-    buf = io.StringIO()
-    w = csv.writer(buf, lineterminator="\n")
-    w.writerow(names)
-    csv_sink.write_text(buf.getvalue())
+    csv_sink.write_text(",".join(names) + "\n")
     head = {"lattice": lattice.name, "quantity": quantity, "digits": meta["digits"],
             "extent": meta["extent"], "coordinates": list(lattice.coordinate_names)}
     json_sink.write_text(json.dumps(head, ensure_ascii=False)[:-1] + ', "rows": [')
@@ -191,27 +187,41 @@ def _write_files(tmp: Path, lattice: Lattice, quantity: str, rows: Iterable[Row]
     min_agree: int | None = None
     full_rows = 0
     prev_site: tuple[int, ...] | None = None
+    csv_lines: list[str] = []
+    json_lines: list[str] = []
     try:
         for r in rows:
             if prev_site is not None and r.site <= prev_site:
                 raise AssertionError(f"rows out of order: {r.site} after {prev_site}")
             prev_site = r.site
-            buf.seek(0)
-            buf.truncate()
-            w.writerow([*r.site, r.value, r.exact, r.exact_how, r.error_bound, r.methods,
-                        r.agreement_digits])
-            csv_sink.write_text(buf.getvalue())
-            obj = {"site": list(r.site), "value": r.value, "exact": r.exact,
-                   "exact_how": r.exact_how, "error_bound": r.error_bound,
-                   "methods": r.methods.split(";"), "agreement_digits": r.agreement_digits}
-            json_sink.write_text(("\n" if count == 0 else ",\n")
-                                 + json.dumps(obj, ensure_ascii=False))
+            # every text field is plain ASCII without quotes, commas or backslashes (checked:
+            # a violation would be a bug), so no CSV quoting or JSON escaping is needed
+            text = r.value + r.exact + r.exact_how + r.error_bound + r.methods
+            if not text.isascii() or any(ch in text for ch in ',"\\\n'):
+                raise AssertionError(f"unexpected character in row {r.site}")
+            coords = ",".join(map(str, r.site))
+            csv_lines.append(f"{coords},{r.value},{r.exact},{r.exact_how},{r.error_bound},"
+                             f"{r.methods},{r.agreement_digits}\n")
+            meths = '", "'.join(r.methods.split(";"))
+            sep = "\n" if count == 0 else ",\n"
+            json_lines.append(
+                f'{sep}{{"site": [{coords.replace(",", ", ")}], '
+                f'"value": "{r.value}", "exact": "{r.exact}", "exact_how": "{r.exact_how}", '
+                f'"error_bound": "{r.error_bound}", "methods": ["{meths}"], '
+                f'"agreement_digits": {r.agreement_digits}}}')
             count += 1
+            if len(csv_lines) >= 4096:
+                csv_sink.write_text("".join(csv_lines))
+                json_sink.write_text("".join(json_lines))
+                csv_lines.clear()
+                json_lines.clear()
             if r.methods != "definition":
                 min_agree = r.agreement_digits if min_agree is None else min(min_agree,
                                                                             r.agreement_digits)
                 if "quadrature-float64" not in r.methods:
                     full_rows += 1
+        csv_sink.write_text("".join(csv_lines))
+        json_sink.write_text("".join(json_lines))
         json_sink.write_text("\n]}\n")
     finally:
         csv_sink.close()

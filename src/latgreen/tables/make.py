@@ -13,7 +13,7 @@ from ..exact.evaluate import FixedPointEvaluator
 from ..progress import Progress
 from ..quantities import Provider, check_digits, get_provider, mpf_fraction
 from ..rounding import agreement_digits
-from .build import choose_verify, rows
+from .build import choose_verify, default_workers, rows
 from .export import check_output_dir, table_id, write_table
 
 MAX_EXTENT = 1_000_000
@@ -72,6 +72,7 @@ class TableRequest:
     verify: str = "auto"
     with_exact: bool = True
     progress: bool = True
+    workers: int | None = None  # None: the machine's cores
 
 
 def make_table(req: TableRequest) -> dict[str, Any]:
@@ -108,9 +109,13 @@ def make_table(req: TableRequest) -> dict[str, Any]:
                         " in float64 for every row, at full digits for sampled batches"),
         },
     }
+    workers = default_workers() if req.workers is None else req.workers
+    if workers < 1:
+        raise InputError(f"workers must be at least 1, got {workers}")
     descriptor = write_table(
         out, lat, req.quantity,
-        rows(provider, extent, digits, verify, req.with_exact, on_batch=bar.advance),
+        rows(provider, extent, digits, verify, req.with_exact, on_batch=bar.advance,
+             workers=workers),
         meta, force=req.force)
     bar.finish(f"{sites:,} rows written to {out}")
     return descriptor
@@ -140,7 +145,7 @@ def check_region(lattice: str, extent: int, digits: int, quantity: str = "resist
     worst, worst_site, far = digits, None, 0
     for batch in provider.batches(extent):
         ev = FixedPointEvaluator(batch.basis, batch.dens, digits)
-        quads = provider.quad_batch(batch, digits)
+        quads = provider.quad_sites(batch.sites, digits)
         for k, site in enumerate(batch.sites):
             if not any(site):
                 continue
