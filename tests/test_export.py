@@ -19,7 +19,7 @@ import sympy
 from conftest import ROOT
 from latgreen.lattices.square import SQUARE
 from latgreen.quantities import get_provider
-from latgreen.tables.build import Row, rows
+from latgreen.tables.build import RowBlock, rows
 from latgreen.tables.export import write_table
 from latgreen.tables.make import TableRequest, make_table
 
@@ -66,9 +66,10 @@ def test_round_trip_values_and_exact_forms(table):
     sites = [(int(r["m"]), int(r["n"])) for r in data]
     assert sites == sorted(sites) == list(SQUARE.region(12))
     js = json.loads((table / "values.json").read_text())
-    assert [tuple(r["site"]) for r in js["rows"]] == sites
+    assert js["fields"] == list(data[0].keys())
+    assert [tuple(r[:2]) for r in js["rows"]] == sites
     for r, j in zip(data, js["rows"], strict=True):
-        assert r["value"] == j["value"] and r["exact"] == j["exact"]
+        assert [str(x) for x in j] == list(r.values())  # the same row, field by field
         if r["methods"] == "definition":
             continue
         # the exact form, parsed back by sympy, rounds to the tabulated value
@@ -111,10 +112,10 @@ def test_interrupted_write_leaves_no_partial_files(tmp_path):
     provider = get_provider("square", "resistance")
 
     def broken():
-        for i, r in enumerate(rows(provider, 10, 20, "full")):
-            if i == 30:
+        for i, block in enumerate(rows(provider, 10, 20, "full")):
+            if i == 6:
                 raise KeyboardInterrupt
-            yield r
+            yield block
 
     meta = {"lattice": "square", "quantity": "resistance", "extent": 10, "digits": 20,
             "verify": "full", "region": "", "methods": {}}
@@ -131,7 +132,7 @@ def test_failed_rewrite_keeps_the_old_table(tmp_path, table):
     before = {f.name: f.read_bytes() for f in out.iterdir()}
 
     def broken():
-        yield Row((0, 0), "0", "0", "derived", "0", "definition", 5)
+        yield RowBlock([(0, 0)], ["0"], ["0"], ["derived"], ["0"], ["definition"], [5])
         raise RuntimeError("simulated failure")
 
     meta = {"lattice": "square", "quantity": "resistance", "extent": 1, "digits": 5,

@@ -20,9 +20,10 @@ from fractions import Fraction
 
 import flint
 import gmpy2
+import numpy as np
 
 from ..errors import PrecisionError
-from ..rounding import ZERO, Rounded, round_interval, round_rational
+from ..rounding import ZERO, Rounded, format_rounded, round_interval, round_rational
 from .forms import Constant, ExactForm
 
 LOG2_10 = 3.3219280948873623
@@ -205,12 +206,42 @@ def evaluate_form(form: ExactForm, digits: int) -> Evaluated:
     return FixedPointEvaluator(form.basis, dens, digits).evaluate(nums)
 
 
-def round_enclosures(values: Sequence[int], err: int, bits: int,
-                     digits: int) -> list[Evaluated | None]:
+@dataclass
+class RoundedColumn:
+    """A batch of values rounded to D digits, kept columnar for speed.
+
+    ``values`` and ``bounds`` are the printed strings; the centre of row k's certified
+    interval is ``nums[k] / 2^bits`` unless ``exact`` has an entry for k.  Rows listed in
+    ``undecided`` are empty strings: the caller evaluates them another way and calls
+    :meth:`put`.
+    """
+
+    values: list[str]
+    bounds: list[str]
+    nums: list[int]
+    bits: int
+    exact: dict[int, Fraction]
+    undecided: list[int]
+
+    def center(self, k: int) -> Fraction:
+        e = self.exact.get(k)
+        return e if e is not None else Fraction(int(self.nums[k]), 1 << self.bits)
+
+    def put(self, k: int, ev: Evaluated) -> None:
+        self.values[k] = str(ev.rounded)
+        self.bounds[k] = ev.rounded.half_ulp()
+        self.exact[k] = ev.center
+
+
+def round_enclosures(values: Sequence[int], err: int, bits: int, digits: int) -> RoundedColumn:
     """Round fixed-point enclosures |x_k - values[k] / 2^bits| <= err / 2^bits to ``digits``
-    significant digits; None where the enclosure does not decide (the caller falls back to
-    an exact evaluation).  The values are first cut down to the bits the digits need (one
-    more unit of error), so the per-row work is on small integers.
+    significant digits.  The values are first cut down to the bits the digits need (one more
+    unit of error), so the per-row work is on small integers.  Rows whose enclosure does not
+    decide the rounding are listed as undecided.
+
+    >>> col = round_enclosures([3 << 100, -(1 << 99)], 1, 102, 5)
+    >>> col.values, col.bounds
+    (['0.75000', '-0.12500'], ['5e-6', '5e-6'])
     """
     keep = int(digits * LOG2_10) + 72
     s = max(0, bits - keep)
@@ -220,26 +251,51 @@ def round_enclosures(values: Sequence[int], err: int, bits: int,
     mask = one - 1
     half = one >> 1
     lo_q, hi_q = 10 ** (digits - 1), 10**digits
-    decades = [(e, 10 ** (digits - 1 - e), e_small * 10 ** (digits - 1 - e))
-               for e in (0, -1, 1, -2, 2) if digits - 1 - e >= 0]
-    out: list[Evaluated | None] = []
-    for big in values:
-        v = big >> s
-        if v == 0 and big == 0 and err == 0:
-            out.append(Evaluated(ZERO, 0, 0, Fraction(0)))
+    decades = []
+    for e in (0, -1, 1, -2, 2, -3):
+        if digits - 1 - e < 0:
             continue
-        sign, av = (1, v) if v >= 0 else (-1, -v)
-        done = None
-        for e, p10, errp in decades:
-            y = av * p10 + half
-            q = y >> b
-            if q < lo_q:
-                continue
-            if q >= hi_q:
-                break
-            rem = y & mask
-            if errp <= rem < one - errp and av > e_small:
-                done = Evaluated(Rounded(sign, str(q), e), b, v)
+        p10 = 10 ** (digits - 1 - e)
+        if 0 <= e < digits:
+            def fmt(q: str, e: int = e) -> str:
+                return q[: e + 1] + "." + q[e + 1:] if e + 1 < len(q) else q
+        elif -6 <= e < 0:
+            def fmt(q: str, e: int = e) -> str:
+                return "0." + "0" * (-e - 1) + q
+        else:
+            def fmt(q: str, e: int = e) -> str:
+                return format_rounded(Rounded(1, q, e))
+        decades.append((p10, e_small * p10, fmt, f"5e{e - digits:d}"))
+    n = len(values)
+    out_v = [""] * n
+    out_b = [""] * n
+    exact: dict[int, Fraction] = {}
+    # vectorised over the batch (numpy object arrays of Python ints: the loops run in C)
+    big = np.array(values, dtype=object)
+    v = big >> s
+    neg = v < 0
+    av = np.where(neg, -v, v)
+    todo = np.ones(n, dtype=bool)
+    if err == 0:
+        for k in np.nonzero(big == 0)[0].tolist():
+            out_v[k], out_b[k], exact[k] = "0", "0", Fraction(0)
+            todo[k] = False
+    todo &= av > e_small
+    for p10, errp, fmt, bound in decades:
+        idx = np.nonzero(todo)[0]
+        if not len(idx):
             break
-        out.append(done)
-    return out
+        y = av[idx] * p10 + half
+        q = y >> b
+        rem = y & mask
+        in_decade = (q >= lo_q) & (q < hi_q)
+        ok = in_decade & (rem >= errp) & (rem < one - errp)
+        for k, qk in zip(idx[ok].tolist(), q[ok].tolist(), strict=True):
+            text = fmt(str(qk))
+            out_v[k] = "-" + text if neg[k] else text
+            out_b[k] = bound
+        # rows in this decade are settled (rounded, or undecided at this precision)
+        todo[idx[in_decade]] = False
+    undecided = [k for k in range(n) if not out_v[k]]
+    nums = v.tolist()
+    return RoundedColumn(out_v, out_b, nums, b, exact, undecided)

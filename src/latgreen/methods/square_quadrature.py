@@ -37,9 +37,18 @@ HALF_PI = math.pi / 2  # as a panel end: stands for the exact pi/2
 STRIP = 0.4  # widest panel in x (the integrand has singularities at x = +-0.88i, and 0)
 
 
-@lru_cache(maxsize=32)
+_GL_CACHE: dict[int, tuple[int, tuple[tuple[int, int, int, int], ...]]] = {}
+
+
 def _gl_nodes(degree: int, prec: int) -> tuple[tuple[int, int, int, int], ...]:
-    """Gauss-Legendre nodes on [-1, 1] (3 * 2^(degree-1) of them) as exact (man, exp) pairs."""
+    """Gauss-Legendre nodes on [-1, 1] (3 * 2^(degree-1) of them) as exact (man, exp) pairs,
+    accurate to at least ``prec`` bits.  Computed once per degree at a precision rounded up
+    to a multiple of 256 bits, and reused for every lower precision (extra bits of a node
+    do no harm)."""
+    hit = _GL_CACHE.get(degree)
+    if hit is not None and hit[0] >= prec:
+        return hit[1]
+    prec = (prec + 255) // 256 * 256
     with mpmath.workprec(prec):
         raw = GaussLegendre(mpmath.mp).calc_nodes(degree, prec)
     out = []
@@ -47,7 +56,13 @@ def _gl_nodes(degree: int, prec: int) -> tuple[tuple[int, int, int, int], ...]:
         xs, xm, xe, _ = x._mpf_
         ws, wm, we, _ = w._mpf_
         out.append((-int(xm) if xs else int(xm), int(xe), -int(wm) if ws else int(wm), int(we)))
-    return tuple(out)
+    _GL_CACHE[degree] = (prec, tuple(out))
+    return _GL_CACHE[degree][1]
+
+
+@lru_cache(maxsize=8)
+def _leggauss(k: int) -> tuple[np.ndarray, np.ndarray]:
+    return np.polynomial.legendre.leggauss(k)
 
 
 def _plan(m: int, wdigits: float, k: int) -> tuple[list[tuple[float, float]], float]:
@@ -185,9 +200,9 @@ def column_float(m: int, n_max: int | None = None) -> np.ndarray:
     """
     n_max = m if n_max is None else n_max
     wdigits = 17.0
-    k = 24
+    k = 48  # two panels of 48 nodes beat six of 24 for the same accuracy
     head, x_c = _plan(m, wdigits, k)
-    gx, gw = np.polynomial.legendre.leggauss(k)
+    gx, gw = _leggauss(k)
     a = np.array([p[0] for p in head])
     b = np.array([p[1] for p in head])
     x = ((b - a)[:, None] / 2 * gx[None, :] + (b + a)[:, None] / 2).ravel()

@@ -13,7 +13,7 @@ from dataclasses import dataclass
 
 import mpmath
 
-from ..exact.evaluate import Evaluated, FixedPointEvaluator
+from ..exact.evaluate import FixedPointEvaluator, RoundedColumn
 from ..exact.forms import Constant, ExactForm
 from ..lattices import Lattice, Site
 
@@ -39,7 +39,7 @@ class EvaluatedBatch:
     """A batch with its values certified to the table's digits (and exact forms if asked)."""
 
     sites: list[Site]
-    values: list[Evaluated]
+    rounded: RoundedColumn
     forms: list[ExactForm] | None
 
 
@@ -62,7 +62,10 @@ class Provider:
         fixed-point evaluator; a provider may override it with a faster enclosure."""
         for b in self.batches(extent):
             ev = FixedPointEvaluator(b.basis, b.dens, digits)
-            yield EvaluatedBatch(b.sites, ev.evaluate_many(b.nums),
+            col = RoundedColumn([""] * len(b.sites), [""] * len(b.sites), [], 0, {}, [])
+            for k, e in enumerate(ev.evaluate_many(b.nums)):
+                col.put(k, e)
+            yield EvaluatedBatch(b.sites, col,
                                  [b.form(k) for k in range(len(b.sites))] if with_exact
                                  else None)
 

@@ -7,7 +7,7 @@ from collections.abc import Iterator, Sequence
 import mpmath
 
 from ..exact import square as exact_square
-from ..exact.evaluate import Evaluated, evaluate_form, round_enclosures
+from ..exact.evaluate import evaluate_form, round_enclosures
 from ..exact.forms import ExactForm
 from ..lattices import Site
 from ..lattices.square import SQUARE
@@ -38,15 +38,12 @@ class SquareResistance(Provider):
         exact_cols = exact_square.columns(extent) if with_exact else None
         for m, V, err in exact_square.enclosure_columns(extent, bits):
             col = next(exact_cols) if exact_cols is not None else None
-            got = round_enclosures(V, err, bits, digits)
-            values: list[Evaluated] = []
-            for n, g in enumerate(got):
-                if g is None:
-                    form = col.form(n) if col is not None else exact_square.resistance_form(m, n)
-                    g = evaluate_form(form, digits)
-                values.append(g)
+            rc = round_enclosures(V, err, bits, digits)
+            for n in rc.undecided:
+                form = col.form(n) if col is not None else exact_square.resistance_form(m, n)
+                rc.put(n, evaluate_form(form, digits))
             forms = [col.form(n) for n in range(m + 1)] if col is not None else None
-            yield EvaluatedBatch([(m, n) for n in range(m + 1)], values, forms)
+            yield EvaluatedBatch([(m, n) for n in range(m + 1)], rc, forms)
 
     def exact_form(self, site: Site) -> ExactForm | None:
         m, n = site

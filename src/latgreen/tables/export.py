@@ -14,6 +14,7 @@ import io
 import json
 import os
 import platform
+import re
 import shutil
 import subprocess
 import tempfile
@@ -24,7 +25,7 @@ from typing import Any
 from .._version import __version__
 from ..errors import InputError
 from ..lattices import Lattice
-from .build import Row
+from .build import RowBlock
 
 CONVENTIONS = {
     "hopping": "amplitude +1 between nearest neighbours; G(E; r) = <0|(E - H)^-1|r>",
@@ -109,7 +110,7 @@ def check_output_dir(out: Path, force: bool) -> None:
         raise InputError(f"cannot write to {probe}: {e.strerror}") from None
 
 
-def write_table(out: Path, lattice: Lattice, quantity: str, rows: Iterable[Row],
+def write_table(out: Path, lattice: Lattice, quantity: str, rows: Iterable[RowBlock],
                 meta: dict[str, Any], force: bool = False) -> dict[str, Any]:
     """Write the three files into a fresh temporary directory beside ``out``, then move it
     into place.  On any error or interruption the temporary directory is removed and ``out``
@@ -174,54 +175,60 @@ def _fields(lattice: Lattice) -> list[dict[str, Any]]:
     ]
 
 
-def _write_files(tmp: Path, lattice: Lattice, quantity: str, rows: Iterable[Row],
+_UNSAFE = re.compile(r'[,"\\\n\r]')
+
+
+def _write_files(tmp: Path, lattice: Lattice, quantity: str, blocks: Iterable[RowBlock],
                  meta: dict[str, Any]) -> dict[str, Any]:
     names = [f["name"] for f in _fields(lattice)]
     csv_sink = _Hashing(tmp / "values.csv")
     json_sink = _Hashing(tmp / "values.json")
     csv_sink.write_text(",".join(names) + "\n")
+    # values.json: the same rows as values.csv, as arrays in the order of "fields" (one row
+    # a line; numbers that must not be rounded are strings, as in the CSV)
     head = {"lattice": lattice.name, "quantity": quantity, "digits": meta["digits"],
-            "extent": meta["extent"], "coordinates": list(lattice.coordinate_names)}
+            "extent": meta["extent"], "coordinates": list(lattice.coordinate_names),
+            "fields": names}
     json_sink.write_text(json.dumps(head, ensure_ascii=False)[:-1] + ', "rows": [')
     count = 0
     min_agree: int | None = None
     full_rows = 0
     prev_site: tuple[int, ...] | None = None
-    csv_lines: list[str] = []
-    json_lines: list[str] = []
     try:
-        for r in rows:
-            if prev_site is not None and r.site <= prev_site:
-                raise AssertionError(f"rows out of order: {r.site} after {prev_site}")
-            prev_site = r.site
-            # every text field is plain ASCII without quotes, commas or backslashes (checked:
-            # a violation would be a bug), so no CSV quoting or JSON escaping is needed
-            text = r.value + r.exact + r.exact_how + r.error_bound + r.methods
-            if not text.isascii() or any(ch in text for ch in ',"\\\n'):
-                raise AssertionError(f"unexpected character in row {r.site}")
-            coords = ",".join(map(str, r.site))
-            csv_lines.append(f"{coords},{r.value},{r.exact},{r.exact_how},{r.error_bound},"
-                             f"{r.methods},{r.agreement_digits}\n")
-            meths = '", "'.join(r.methods.split(";"))
-            sep = "\n" if count == 0 else ",\n"
-            json_lines.append(
-                f'{sep}{{"site": [{coords.replace(",", ", ")}], '
-                f'"value": "{r.value}", "exact": "{r.exact}", "exact_how": "{r.exact_how}", '
-                f'"error_bound": "{r.error_bound}", "methods": ["{meths}"], '
-                f'"agreement_digits": {r.agreement_digits}}}')
-            count += 1
-            if len(csv_lines) >= 4096:
-                csv_sink.write_text("".join(csv_lines))
-                json_sink.write_text("".join(json_lines))
-                csv_lines.clear()
-                json_lines.clear()
-            if r.methods != "definition":
-                min_agree = r.agreement_digits if min_agree is None else min(min_agree,
-                                                                            r.agreement_digits)
-                if "quadrature-float64" not in r.methods:
-                    full_rows += 1
-        csv_sink.write_text("".join(csv_lines))
-        json_sink.write_text("".join(json_lines))
+        for blk in blocks:
+            if not len(blk):
+                continue
+            sites = blk.sites
+            if (prev_site is not None and sites[0] <= prev_site) or any(
+                    a >= b for a, b in zip(sites, sites[1:], strict=False)):
+                raise AssertionError(f"rows out of order near {sites[0]}")
+            prev_site = sites[-1]
+            # every text field is plain ASCII without quotes, commas, backslashes or line
+            # ends (checked per block: a violation would be a bug), so no CSV quoting or JSON
+            # escaping is needed
+            blob = "".join(blk.values) + "".join(blk.exacts) + "".join(blk.hows) + "".join(
+                blk.bounds) + "".join(blk.methods)
+            if not blob.isascii() or _UNSAFE.search(blob):
+                raise AssertionError(f"unexpected character in the rows near {sites[0]}")
+            coords = [",".join(map(str, st)) for st in sites]
+            csv_sink.write_text("".join(
+                f"{c},{v},{x},{h},{e},{mt},{a}\n" for c, v, x, h, e, mt, a in zip(
+                    coords, blk.values, blk.exacts, blk.hows, blk.bounds, blk.methods,
+                    blk.agreements, strict=True)))
+            first = "\n" if count == 0 else ",\n"
+            json_sink.write_text(first + ",\n".join(
+                f'[{c},"{v}","{x}","{h}","{e}","{mt}",{a}]'
+                for c, v, x, h, e, mt, a in zip(
+                    coords, blk.values, blk.exacts, blk.hows, blk.bounds, blk.methods,
+                    blk.agreements, strict=True)))
+            count += len(blk)
+            checked = [a for a, mt in zip(blk.agreements, blk.methods, strict=True)
+                       if mt != "definition"]
+            if checked:
+                low = min(checked)
+                min_agree = low if min_agree is None else min(min_agree, low)
+            full_rows += sum(1 for mt in blk.methods
+                             if mt != "definition" and "quadrature-float64" not in mt)
         json_sink.write_text("\n]}\n")
     finally:
         csv_sink.close()
