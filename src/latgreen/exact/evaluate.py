@@ -179,11 +179,15 @@ class FixedPointEvaluator:
                 sign, av = -1, -v
             done = None
             for e, p10 in decades:
-                y = av * p10 + half
-                q = y >> bits
-                if q < lo_q:
+                t = av * p10
+                fl = t >> bits  # the decade is decided by the value, not by its rounding
+                if fl < lo_q:
                     continue
-                if q >= hi_q:
+                if fl >= hi_q:
+                    break
+                y = t + half
+                q = y >> bits
+                if q >= hi_q:  # rounds up into the next decade: the exact path
                     break
                 rem = y & mask
                 errp = err * p10
@@ -285,11 +289,14 @@ def round_enclosures(values: Sequence[int], err: int, bits: int, digits: int) ->
         idx = np.nonzero(todo)[0]
         if not len(idx):
             break
-        y = av[idx] * p10 + half
+        t = av[idx] * p10
+        fl = t >> b  # the decade is decided by the value, not by its rounding
+        y = t + half
         q = y >> b
         rem = y & mask
-        in_decade = (q >= lo_q) & (q < hi_q)
-        ok = in_decade & (rem >= errp) & (rem < one - errp)
+        in_decade = (fl >= lo_q) & (fl < hi_q)
+        # q == hi_q: rounds up into the next decade; left to the exact path
+        ok = in_decade & (q < hi_q) & (rem >= errp) & (rem < one - errp)
         for k, qk in zip(idx[ok].tolist(), q[ok].tolist(), strict=True):
             text = fmt(str(qk))
             out_v[k] = "-" + text if neg[k] else text
