@@ -90,6 +90,7 @@ def _one_line_error(p):
     (("table", "square", "--extent", "3", "--quantity", "green", "--out", "x"),
      "unknown quantity"),
     (("check", "square", "--extent", "-2"), "extent must be >= 0"),
+    (("table", "square", "--extent", "3", "--out", "x", "--workers", "0"), "at least 1"),
     (("resistance", "square", "9000", "0", "--digits", "60"), "at most --digits"),
 ])
 def test_bad_input_is_one_line_and_exit_2(args, needle, tmp_path):

@@ -44,6 +44,16 @@ def _extent(text: str) -> int:
         raise argparse.ArgumentTypeError(f"extent must be an integer, got {text!r}") from None
 
 
+def _workers(text: str) -> int:
+    try:
+        n = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"workers must be an integer, got {text!r}") from None
+    if n < 1:
+        raise argparse.ArgumentTypeError(f"workers must be at least 1, got {n}")
+    return n
+
+
 def _parser() -> argparse.ArgumentParser:
     p = _Parser(prog="latgreen", description="Verified high-precision values and tables of "
                 "lattice Green's functions and two-point resistances of infinite lattices.")
@@ -74,7 +84,7 @@ def _parser() -> argparse.ArgumentParser:
     t.add_argument("--no-exact", action="store_true",
                    help="leave the exact forms out of the files (they grow with the extent)")
     t.add_argument("--quiet", action="store_true", help="no progress display")
-    t.add_argument("--workers", type=_extent, default=None,
+    t.add_argument("--workers", type=_workers, default=None,
                    help="processes for the independent checks (default: the machine's cores)")
 
     c = sub.add_parser("check", help="run the methods against each other over a region")
