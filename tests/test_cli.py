@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import json
 import os
+import re
 import stat
 import sys
 
@@ -141,3 +142,49 @@ def test_unwritable_path_under_proc():
     # /proc refuses new directories even to root
     p = run_cli("table", "square", "--extent", "2", "--out", "/proc/latgreen-test/t")
     assert "cannot write" in _one_line_error(p)
+
+
+def test_check_exits_one_on_a_disagreement(monkeypatch, capsys):
+    # inject a wrong independent value at one site: `check` must report it and exit 1
+    from latgreen import cli
+    from latgreen.quantities.square_resistance import SquareResistance
+
+    real = SquareResistance.quad_sites
+
+    def skewed(self, sites, digits):
+        import mpmath
+
+        out = real(self, sites, digits)
+        with mpmath.workdps(60):
+            return [q * (1 + mpmath.mpf(10) ** -20) if s == (4, 1) else q
+                    for q, s in zip(out, sites, strict=True)]
+
+    monkeypatch.setattr(SquareResistance, "quad_sites", skewed)
+    code = cli.main(["check", "square", "--extent", "5", "--digits", "30", "--quiet"])
+    out = capsys.readouterr().out
+    assert code == 1
+    # a relative skew of 1e-20 leaves 19 or 20 agreeing digits, by where the digits fall
+    assert re.search(r"\(4, 1\): recurrence vs quadrature agree to (19|20) of 30 digits", out)
+
+
+def test_table_refuses_to_publish_a_disagreement(monkeypatch, tmp_path, capsys):
+    from latgreen import cli
+    from latgreen.quantities.square_resistance import SquareResistance
+
+    real = SquareResistance.quad_sites
+
+    def skewed(self, sites, digits):
+        import mpmath
+
+        out = real(self, sites, digits)
+        with mpmath.workdps(60):
+            return [q * (1 + mpmath.mpf(10) ** -25) if s == (3, 0) else q
+                    for q, s in zip(out, sites, strict=True)]
+
+    monkeypatch.setattr(SquareResistance, "quad_sites", skewed)
+    out = tmp_path / "t"
+    code = cli.main(["table", "square", "--extent", "5", "--digits", "30", "--out", str(out),
+                     "--quiet", "--workers", "1"])
+    err = capsys.readouterr().err
+    assert code == 1 and "verification failed" in err and "(3, 0)" in err
+    assert list(tmp_path.iterdir()) == []
