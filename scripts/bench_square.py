@@ -47,6 +47,11 @@ def _peak_mib() -> float:
     return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
 
 
+def _peak_children_mib() -> float:
+    """Largest peak of the worker processes this run waited for (0 if none)."""
+    return resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024
+
+
 # --------------------------------------------------------------------------- the contestants
 def run_ours(n: int, digits: int, exact: bool) -> dict:
     from latgreen.tables.make import TableRequest, make_table
@@ -194,6 +199,7 @@ def main() -> None:
         name, n, d = a.run[0], int(a.run[1]), int(a.run[2])
         res = CONTESTANTS[name](n, d)
         res["peak_mib"] = _peak_mib()
+        res["peak_worker_mib"] = _peak_children_mib()
         print(json.dumps(res))
         return
     sizes = [60, 150] if a.quick else a.sizes
@@ -205,7 +211,8 @@ def main() -> None:
                 continue
             res[name] = measure(name, n, a.digits)
             r = res[name]
-            extra = {k: v for k, v in r.items() if k not in ("seconds", "peak_mib")}
+            extra = {k: v for k, v in r.items() if k not in ("seconds", "peak_mib")
+                     and not (k == "peak_worker_mib" and not v)}
             print(f"N={n:5d} {name:14s} {r.get('seconds', float('nan')):10.2f} s  "
                   f"peak {r.get('peak_mib', float('nan')):8.1f} MiB  {extra}", flush=True)
         if n > 200 and "b-sympy" not in res:

@@ -231,6 +231,17 @@ class RoundedColumn:
         e = self.exact.get(k)
         return e if e is not None else Fraction(int(self.nums[k]), 1 << self.bits)
 
+    def center_floats(self) -> np.ndarray:
+        """The centres as float64 (for comparisons with float64 checks)."""
+        if self.bits and len(self.nums) == len(self.values):
+            x = np.array([int(v) >> max(0, self.bits - 64) for v in self.nums], dtype=float)
+            x *= 2.0 ** -min(64, self.bits)
+        else:
+            x = np.zeros(len(self.values))
+        for k, e in self.exact.items():
+            x[k] = float(e)
+        return x
+
     def put(self, k: int, ev: Evaluated) -> None:
         self.values[k] = str(ev.rounded)
         self.bounds[k] = ev.rounded.half_ulp()

@@ -146,7 +146,7 @@ def _block(provider: Provider, eb: Any, checks: Sequence[Any], full: bool, digit
                                   else Fraction(checks[k]), digits)
                  for k in range(len(eb.sites))]
     else:
-        x = np.array(rc.values, dtype=float)
+        x = rc.center_floats()
         y = np.asarray(checks, dtype=float)
         with np.errstate(divide="ignore", invalid="ignore"):
             rel = np.abs(x - y) / np.abs(x)
