@@ -19,9 +19,10 @@ import sympy
 from conftest import ROOT
 from latgreen.lattices.square import SQUARE
 from latgreen.quantities import get_provider
-from latgreen.tables.build import RowBlock, rows
+from latgreen.tables.build import rows
 from latgreen.tables.export import write_table
 from latgreen.tables.make import TableRequest, make_table
+from latgreen.tables.render import RowBlock, render
 
 frictionless = pytest.importorskip("frictionless")
 
@@ -115,7 +116,7 @@ def test_interrupted_write_leaves_no_partial_files(tmp_path):
         for i, block in enumerate(rows(provider, 10, 20, "full")):
             if i == 6:
                 raise KeyboardInterrupt
-            yield block
+            yield render(block)
 
     meta = {"lattice": "square", "quantity": "resistance", "extent": 10, "digits": 20,
             "verify": "full", "region": "", "methods": {}}
@@ -132,7 +133,8 @@ def test_failed_rewrite_keeps_the_old_table(tmp_path, table):
     before = {f.name: f.read_bytes() for f in out.iterdir()}
 
     def broken():
-        yield RowBlock([(0, 0)], ["0"], ["0"], ["derived"], ["0"], ["definition"], [5])
+        yield render(RowBlock([(0, 0)], ["0"], ["0"], ["derived"], ["0"], ["definition"],
+                              [5]))
         raise RuntimeError("simulated failure")
 
     meta = {"lattice": "square", "quantity": "resistance", "extent": 1, "digits": 5,

@@ -56,18 +56,23 @@ class Provider:
     def exact_form(self, site: Site) -> ExactForm | None:
         raise NotImplementedError
 
-    def evaluated_batches(self, extent: int, digits: int,
-                          with_exact: bool) -> Iterator[EvaluatedBatch]:
-        """Batches with certified values: by default the exact forms through the
-        fixed-point evaluator; a provider may override it with a faster enclosure."""
-        for b in self.batches(extent):
+    def evaluated_batches(self, extent: int, digits: int, with_exact: bool, start: int = 0,
+                          stop: int | None = None) -> Iterator[tuple[int, EvaluatedBatch]]:
+        """(index, batch) for the batches start <= index < stop, with certified values: by
+        default the exact forms through the fixed-point evaluator; a provider may override
+        it with a faster enclosure."""
+        for bi, b in enumerate(self.batches(extent)):
+            if bi < start:
+                continue
+            if stop is not None and bi >= stop:
+                return
             ev = FixedPointEvaluator(b.basis, b.dens, digits)
             col = RoundedColumn([""] * len(b.sites), [""] * len(b.sites), [], 0, {}, [])
             for k, e in enumerate(ev.evaluate_many(b.nums)):
                 col.put(k, e)
-            yield EvaluatedBatch(b.sites, col,
-                                 [b.form(k) for k in range(len(b.sites))] if with_exact
-                                 else None)
+            yield bi, EvaluatedBatch(b.sites, col,
+                                     [b.form(k) for k in range(len(b.sites))] if with_exact
+                                     else None)
 
     def batch_sites(self, extent: int) -> Iterator[list[Site]]:
         """The sites of each batch, in order, without computing anything (for planning)."""

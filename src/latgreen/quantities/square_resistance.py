@@ -29,21 +29,26 @@ class SquareResistance(Provider):
                 basis=exact_square.BASIS,
             )
 
-    def evaluated_batches(self, extent: int, digits: int,
-                          with_exact: bool) -> Iterator[EvaluatedBatch]:
+    def evaluated_batches(self, extent: int, digits: int, with_exact: bool, start: int = 0,
+                          stop: int | None = None) -> Iterator[tuple[int, EvaluatedBatch]]:
         """Values from the fixed-point enclosure of the recurrence (one integer per site, a
         proven error bound per column); exact forms, if asked, from the rational recurrence
-        run alongside.  A row the enclosure cannot decide is evaluated from its exact form."""
+        run alongside.  A row the enclosure cannot decide is evaluated from its exact form.
+        Columns before ``start`` are run through (the recurrence needs them) but not rounded.
+        """
         bits = exact_square.enclosure_bits(extent, digits)
-        exact_cols = exact_square.columns(extent) if with_exact else None
-        for m, V, err in exact_square.enclosure_columns(extent, bits):
+        last = extent if stop is None else min(extent, stop - 1)
+        exact_cols = exact_square.columns(last) if with_exact else None
+        for m, V, err in exact_square.enclosure_columns(last, bits):
             col = next(exact_cols) if exact_cols is not None else None
+            if m < start:
+                continue
             rc = round_enclosures(V, err, bits, digits)
             for n in rc.undecided:
                 form = col.form(n) if col is not None else exact_square.resistance_form(m, n)
                 rc.put(n, evaluate_form(form, digits))
             forms = [col.form(n) for n in range(m + 1)] if col is not None else None
-            yield EvaluatedBatch([(m, n) for n in range(m + 1)], rc, forms)
+            yield m, EvaluatedBatch([(m, n) for n in range(m + 1)], rc, forms)
 
     def exact_form(self, site: Site) -> ExactForm | None:
         m, n = site

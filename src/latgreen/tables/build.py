@@ -25,7 +25,6 @@ import os
 import signal
 import warnings
 from collections.abc import Callable, Iterator, Sequence
-from dataclasses import dataclass
 from fractions import Fraction
 from multiprocessing.pool import Pool
 from typing import Any
@@ -35,29 +34,13 @@ import numpy as np
 from ..errors import VerificationError
 from ..quantities import Provider
 from ..rounding import agreement_digits
-from .workers import check_job, ignore_sigint
+from .render import Chunk, RowBlock, render
+from .workers import check_job, init_worker, unit_job
 
 FAST_MIN_AGREEMENT = 12
 FLOAT_MAX_AGREEMENT = 15  # a float64 check cannot confirm more than this
 FULL_AUTO_LIMIT = 2_000_000  # "auto" picks full when sites * digits stays below this
 PARALLEL_MIN_SITES = 3000  # below this a worker pool costs more than it saves
-
-
-@dataclass
-class RowBlock:
-    """The rows of one batch, column by column (a million Row objects would cost more
-    than computing them)."""
-
-    sites: list[tuple[int, ...]]
-    values: list[str]
-    exacts: list[str]
-    hows: list[str]
-    bounds: list[str]
-    methods: list[str]
-    agreements: list[int]
-
-    def __len__(self) -> int:
-        return len(self.sites)
 
 
 def choose_verify(mode: str, sites: int, digits: int) -> str:
@@ -76,7 +59,12 @@ def default_workers() -> int:
     return os.cpu_count() or 1
 
 
-def _pool(workers: int) -> Pool:
+def _progress_queue() -> Any:
+    return multiprocessing.get_context("fork" if "fork" in multiprocessing.get_all_start_methods()
+                                       else "spawn").SimpleQueue()
+
+
+def _pool(workers: int, progress: Any) -> Pool:
     """A pool whose workers are all forked at once, with SIGINT blocked.
 
     multiprocessing.Pool (unlike concurrent.futures) starts every worker in its constructor,
@@ -89,7 +77,8 @@ def _pool(workers: int) -> Pool:
     """
     if "fork" not in multiprocessing.get_all_start_methods() or not hasattr(
             signal, "pthread_sigmask"):  # pragma: no cover - not POSIX
-        return multiprocessing.get_context("spawn").Pool(workers, initializer=ignore_sigint)
+        return multiprocessing.get_context("spawn").Pool(workers, initializer=init_worker,
+                                                         initargs=(progress,))
     ctx = multiprocessing.get_context("fork")
     old = signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGINT})
     try:
@@ -97,42 +86,93 @@ def _pool(workers: int) -> Pool:
             # Python 3.12+ warns about fork in a process with threads (numpy's BLAS pool);
             # the workers only run our pure functions, and take no lock those threads hold
             warnings.simplefilter("ignore", DeprecationWarning)
-            return ctx.Pool(workers, initializer=ignore_sigint)
+            return ctx.Pool(workers, initializer=init_worker, initargs=(progress,))
     finally:
         signal.pthread_sigmask(signal.SIG_SETMASK, old)
 
 
 
 def rows(provider: Provider, extent: int, digits: int, verify: str, with_exact: bool = True,
-         on_batch: Callable[[int], None] | None = None,
-         workers: int = 1) -> Iterator[RowBlock]:
-    """Yield the verified rows of the table in site order, one block per batch."""
+         start: int = 0, stop: int | None = None,
+         on_batch: Callable[[int], None] | None = None) -> Iterator[RowBlock]:
+    """Yield the verified rows of batches ``start`` <= index < ``stop``, in site order, one
+    block per batch, computed in this process."""
     name, quantity = provider.lattice.name, provider.quantity
-    plan = [(sites, verify == "full" or sampled(bi, extent))
-            for bi, sites in enumerate(provider.batch_sites(extent))]
-    total = sum(len(s) for s, _ in plan)
-    pool = _pool(workers) if workers > 1 and total >= PARALLEL_MIN_SITES else None
-    jobs = ((name, quantity, sites, digits, full) for sites, full in plan)
-    results: Iterator[list[Any]] = (pool.imap(check_job, jobs, chunksize=1)
-                                    if pool is not None else map(check_job, jobs))
+    for bi, eb in provider.evaluated_batches(extent, digits, with_exact, start, stop):
+        full = verify == "full" or sampled(bi, extent)
+        checks = check_job((name, quantity, eb.sites, digits, full))
+        yield _block(provider, eb, checks, full, digits, with_exact)
+        if on_batch is not None:
+            on_batch(len(eb.sites))
+
+
+def plan_units(provider: Provider, extent: int, parts: int) -> list[tuple[int, int]]:
+    """Split the batches into ``parts`` contiguous work units of about equal row counts.
+
+    A unit is computed by one worker from scratch (the recurrence up to its first batch is
+    run again there: cheap next to rounding, checking and rendering), so the number of units
+    stays small: the number of workers, or more where one unit's text would be large."""
+    sizes = [len(s) for s in provider.batch_sites(extent)]
+    total = sum(sizes)
+    parts = max(1, min(parts, len(sizes)))
+    bounds, acc, k = [0], 0, 1
+    for i, n in enumerate(sizes):
+        acc += n
+        if k < parts and acc >= total * k / parts and i + 1 < len(sizes):
+            bounds.append(i + 1)
+            k += 1
+    bounds.append(len(sizes))
+    return list(zip(bounds[:-1], bounds[1:], strict=True))
+
+
+UNIT_TEXT_BYTES = 200_000_000  # aim at most this much rendered text per unit
+
+
+def chunks(provider: Provider, extent: int, digits: int, verify: str, with_exact: bool = True,
+           on_rows: Callable[[int], None] | None = None, workers: int = 1,
+           text_estimate: int = 0) -> Iterator[Chunk]:
+    """The table's rendered rows, in order.  With ``workers`` > 1 (and a table large enough
+    to pay for it) contiguous work units run in a pool of forked workers, which report
+    progress through a queue; the text is the same whatever the split."""
+    total = provider.lattice.region_size(extent)
+    if workers <= 1 or total < PARALLEL_MIN_SITES:
+        for blk in rows(provider, extent, digits, verify, with_exact, on_batch=on_rows):
+            yield render(blk)
+        return
+    parts = max(workers, -(-text_estimate // UNIT_TEXT_BYTES))
+    units = plan_units(provider, extent, parts)
+    ctx_queue = _progress_queue()
+    pool = _pool(workers, ctx_queue)
+    args = [(provider.lattice.name, provider.quantity, extent, digits, verify, with_exact,
+             a, b) for a, b in units]
     ok = False
     try:
-        for bi, eb in enumerate(provider.evaluated_batches(extent, digits, with_exact)):
-            sites, full = plan[bi]
-            if eb.sites != sites:  # pragma: no cover - a provider bug
-                raise AssertionError(f"batch {bi}: planned and computed sites differ")
-            checks: Sequence[Any] = next(results)
-            yield _block(provider, eb, checks, full, digits, with_exact)
-            if on_batch is not None:
-                on_batch(len(sites))
+        it = pool.imap(unit_job, args, chunksize=1)
+        for _ in units:
+            while True:
+                try:
+                    ch = it.next(timeout=0.25)
+                    break
+                except multiprocessing.TimeoutError:
+                    _drain(ctx_queue, on_rows)
+            _drain(ctx_queue, on_rows)
+            yield ch
         ok = True
     finally:
-        if pool is not None:
-            if ok:
-                pool.close()
-            else:
-                pool.terminate()
-            pool.join()
+        if ok:
+            pool.close()
+        else:
+            pool.terminate()
+        pool.join()
+
+
+def _drain(q: Any, on_rows: Callable[[int], None] | None) -> None:
+    # a SimpleQueue (no feeder thread in the workers) with one reader: empty() then get()
+    # never blocks
+    while not q.empty():
+        k = q.get()
+        if on_rows is not None:
+            on_rows(k)
 
 
 def _block(provider: Provider, eb: Any, checks: Sequence[Any], full: bool, digits: int,

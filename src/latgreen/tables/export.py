@@ -14,7 +14,6 @@ import io
 import json
 import os
 import platform
-import re
 import shutil
 import subprocess
 import tempfile
@@ -25,7 +24,7 @@ from typing import Any
 from .._version import __version__
 from ..errors import InputError
 from ..lattices import Lattice
-from .build import RowBlock
+from .render import Chunk
 
 CONVENTIONS = {
     "hopping": "amplitude +1 between nearest neighbours; G(E; r) = <0|(E - H)^-1|r>",
@@ -110,7 +109,7 @@ def check_output_dir(out: Path, force: bool) -> None:
         raise InputError(f"cannot write to {probe}: {e.strerror}") from None
 
 
-def write_table(out: Path, lattice: Lattice, quantity: str, rows: Iterable[RowBlock],
+def write_table(out: Path, lattice: Lattice, quantity: str, chunks: Iterable[Chunk],
                 meta: dict[str, Any], force: bool = False) -> dict[str, Any]:
     """Write the three files into a fresh temporary directory beside ``out``, then move it
     into place.  On any error or interruption the temporary directory is removed and ``out``
@@ -127,7 +126,7 @@ def write_table(out: Path, lattice: Lattice, quantity: str, rows: Iterable[RowBl
         raise InputError(f"cannot write to {parent}: {e.strerror}") from None
     try:
         started = _utc_now()
-        summary = _write_files(tmp, lattice, quantity, rows, meta)
+        summary = _write_files(tmp, lattice, quantity, chunks, meta)
         ended = _utc_now()
         descriptor = _descriptor(lattice, quantity, meta, summary, started, ended)
         with open(tmp / "datapackage.json", "w", encoding="utf-8", newline="\n") as f:
@@ -175,10 +174,7 @@ def _fields(lattice: Lattice) -> list[dict[str, Any]]:
     ]
 
 
-_UNSAFE = re.compile(r'[,"\\\n\r]')
-
-
-def _write_files(tmp: Path, lattice: Lattice, quantity: str, blocks: Iterable[RowBlock],
+def _write_files(tmp: Path, lattice: Lattice, quantity: str, chunks: Iterable[Chunk],
                  meta: dict[str, Any]) -> dict[str, Any]:
     names = [f["name"] for f in _fields(lattice)]
     csv_sink = _Hashing(tmp / "values.csv")
@@ -195,40 +191,19 @@ def _write_files(tmp: Path, lattice: Lattice, quantity: str, blocks: Iterable[Ro
     full_rows = 0
     prev_site: tuple[int, ...] | None = None
     try:
-        for blk in blocks:
-            if not len(blk):
+        for ch in chunks:
+            if not ch.rows:
                 continue
-            sites = blk.sites
-            if (prev_site is not None and sites[0] <= prev_site) or any(
-                    a >= b for a, b in zip(sites, sites[1:], strict=False)):
-                raise AssertionError(f"rows out of order near {sites[0]}")
-            prev_site = sites[-1]
-            # every text field is plain ASCII without quotes, commas, backslashes or line
-            # ends (checked per block: a violation would be a bug), so no CSV quoting or JSON
-            # escaping is needed
-            blob = "".join(blk.values) + "".join(blk.exacts) + "".join(blk.hows) + "".join(
-                blk.bounds) + "".join(blk.methods)
-            if not blob.isascii() or _UNSAFE.search(blob):
-                raise AssertionError(f"unexpected character in the rows near {sites[0]}")
-            coords = [",".join(map(str, st)) for st in sites]
-            csv_sink.write_text("".join(
-                f"{c},{v},{x},{h},{e},{mt},{a}\n" for c, v, x, h, e, mt, a in zip(
-                    coords, blk.values, blk.exacts, blk.hows, blk.bounds, blk.methods,
-                    blk.agreements, strict=True)))
-            first = "\n" if count == 0 else ",\n"
-            json_sink.write_text(first + ",\n".join(
-                f'[{c},"{v}","{x}","{h}","{e}","{mt}",{a}]'
-                for c, v, x, h, e, mt, a in zip(
-                    coords, blk.values, blk.exacts, blk.hows, blk.bounds, blk.methods,
-                    blk.agreements, strict=True)))
-            count += len(blk)
-            checked = [a for a, mt in zip(blk.agreements, blk.methods, strict=True)
-                       if mt != "definition"]
-            if checked:
-                low = min(checked)
-                min_agree = low if min_agree is None else min(min_agree, low)
-            full_rows += sum(1 for mt in blk.methods
-                             if mt != "definition" and "quadrature-float64" not in mt)
+            if prev_site is not None and ch.first is not None and ch.first <= prev_site:
+                raise AssertionError(f"rows out of order near {ch.first}")
+            prev_site = ch.last
+            csv_sink.write_text(ch.csv)
+            json_sink.write_text("\n" + ch.json[2:] if count == 0 else ch.json)
+            count += ch.rows
+            if ch.min_agreement is not None:
+                min_agree = (ch.min_agreement if min_agree is None
+                             else min(min_agree, ch.min_agreement))
+            full_rows += ch.full_rows
         json_sink.write_text("\n]}\n")
     finally:
         csv_sink.close()

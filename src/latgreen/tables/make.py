@@ -13,7 +13,7 @@ from ..exact.evaluate import FixedPointEvaluator
 from ..progress import Progress
 from ..quantities import Provider, check_digits, get_provider, mpf_fraction
 from ..rounding import agreement_digits
-from .build import choose_verify, default_workers, rows
+from .build import choose_verify, chunks, default_workers
 from .export import check_output_dir, table_id, write_table
 
 MAX_EXTENT = 1_000_000
@@ -114,8 +114,8 @@ def make_table(req: TableRequest) -> dict[str, Any]:
         raise InputError(f"workers must be at least 1, got {workers}")
     descriptor = write_table(
         out, lat, req.quantity,
-        rows(provider, extent, digits, verify, req.with_exact, on_batch=bar.advance,
-             workers=workers),
+        chunks(provider, extent, digits, verify, req.with_exact, on_rows=bar.advance,
+               workers=workers, text_estimate=need),
         meta, force=req.force)
     bar.finish(f"{sites:,} rows written to {out}")
     return descriptor

@@ -7,6 +7,32 @@ from __future__ import annotations
 import signal
 from typing import Any
 
+_progress: Any = None
+
+
+def init_worker(progress: Any = None) -> None:
+    """Worker start-up: signals as below, and the queue to report finished rows to."""
+    global _progress
+    _progress = progress
+    ignore_sigint()
+
+
+def _report(k: int) -> None:
+    if _progress is not None:
+        _progress.put(k)
+
+
+def unit_job(args: tuple[str, str, int, int, str, bool, int, int]) -> Any:
+    """One work unit: batches [start, stop) of a table, computed, checked and rendered."""
+    from ..quantities import get_provider
+    from .build import rows
+    from .render import merge, render
+
+    lattice, quantity, extent, digits, verify, with_exact, start, stop = args
+    p = get_provider(lattice, quantity)
+    return merge([render(blk) for blk in
+                  rows(p, extent, digits, verify, with_exact, start, stop, on_batch=_report)])
+
 
 def ignore_sigint() -> None:
     """Worker start-up: Ctrl-C is the main process's business; SIGTERM (how the pool is

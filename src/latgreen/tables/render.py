@@ -1,0 +1,90 @@
+"""Rows to text: the CSV lines and JSON rows of one block, with its summary.
+
+Rendering happens where the rows are computed (in a worker process for parallel builds), so
+that the main process only writes text.  The text of a table does not depend on how its rows
+were split into chunks.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+
+_UNSAFE = re.compile(r'[,"\\\n\r]')
+
+
+@dataclass
+class RowBlock:
+    """The rows of one batch, column by column (a million row objects would cost more than
+    computing them)."""
+
+    sites: list[tuple[int, ...]]
+    values: list[str]
+    exacts: list[str]
+    hows: list[str]
+    bounds: list[str]
+    methods: list[str]
+    agreements: list[int]
+
+    def __len__(self) -> int:
+        return len(self.sites)
+
+
+@dataclass
+class Chunk:
+    """Rendered rows: ``csv`` lines each ending in a newline, ``json`` rows each preceded by
+    ``",\\n"`` (the writer drops the comma before a table's first row)."""
+
+    csv: str = ""
+    json: str = ""
+    rows: int = 0
+    first: tuple[int, ...] | None = None
+    last: tuple[int, ...] | None = None
+    min_agreement: int | None = None
+    full_rows: int = 0
+
+
+
+def merge(parts: list[Chunk]) -> Chunk:
+    """One chunk from consecutive ones (joined once: repeated += would copy quadratically)."""
+    parts = [p for p in parts if p.rows]
+    if not parts:
+        return Chunk()
+    for a, b in zip(parts, parts[1:], strict=False):
+        if a.last is not None and b.first is not None and b.first <= a.last:
+            raise AssertionError(f"rows out of order near {b.first}")
+    agrees = [p.min_agreement for p in parts if p.min_agreement is not None]
+    return Chunk(
+        csv="".join(p.csv for p in parts), json="".join(p.json for p in parts),
+        rows=sum(p.rows for p in parts), first=parts[0].first, last=parts[-1].last,
+        min_agreement=min(agrees) if agrees else None,
+        full_rows=sum(p.full_rows for p in parts),
+    )
+
+
+def render(blk: RowBlock) -> Chunk:
+    """CSV lines and JSON rows for a block (checked: every text field is plain ASCII without
+    quotes, commas, backslashes or line ends, so no quoting or escaping is needed)."""
+    if not len(blk):
+        return Chunk()
+    sites = blk.sites
+    if any(a >= b for a, b in zip(sites, sites[1:], strict=False)):
+        raise AssertionError(f"rows out of order near {sites[0]}")
+    blob = "".join(blk.values) + "".join(blk.exacts) + "".join(blk.hows) + "".join(
+        blk.bounds) + "".join(blk.methods)
+    if not blob.isascii() or _UNSAFE.search(blob):
+        raise AssertionError(f"unexpected character in the rows near {sites[0]}")
+    coords = [",".join(map(str, st)) for st in sites]
+    fields = list(zip(coords, blk.values, blk.exacts, blk.hows, blk.bounds, blk.methods,
+                      blk.agreements, strict=True))
+    csv = "".join(f"{c},{v},{x},{h},{e},{mt},{a}\n" for c, v, x, h, e, mt, a in fields)
+    js = "".join(f',\n[{c},"{v}","{x}","{h}","{e}","{mt}",{a}]'
+                 for c, v, x, h, e, mt, a in fields)
+    checked = [a for a, mt in zip(blk.agreements, blk.methods, strict=True)
+               if mt != "definition"]
+    return Chunk(
+        csv=csv, json=js, rows=len(sites), first=sites[0], last=sites[-1],
+        min_agreement=min(checked) if checked else None,
+        full_rows=sum(1 for mt in blk.methods
+                      if mt != "definition" and "quadrature-float64" not in mt),
+    )
