@@ -145,27 +145,66 @@ def test_failed_rewrite_keeps_the_old_table(tmp_path, table):
     assert [p.name for p in tmp_path.iterdir()] == ["t"]
 
 
-@pytest.mark.parametrize(("sig", "code", "word"), [
-    (signal.SIGINT, 130, "interrupted"),   # Ctrl-C on a terminal: the whole process group
-    (signal.SIGTERM, 143, "terminated"),   # kill, cron timeouts: the main process only
-])
-def test_interrupting_a_parallel_build_leaves_nothing(tmp_path, sig, code, word):
+def _start_build(tmp_path, *extra):
     env = dict(os.environ, PYTHONPATH=str(ROOT / "src"))
-    out = tmp_path / "big"
-    p = subprocess.Popen([sys.executable, "-m", "latgreen", "table", "square", "--extent",
-                          "400", "--digits", "60", "--out", str(out), "--workers", "2"],
-                         env=env, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,
-                         start_new_session=True)
-    deadline = time.monotonic() + 60
-    while time.monotonic() < deadline and not any(tmp_path.glob(".big.tmp-*/values.csv")):
-        time.sleep(0.05)
-    assert any(tmp_path.glob(".big.tmp-*")), "the build never started writing"
-    time.sleep(0.5)
-    if sig == signal.SIGINT:
+    return subprocess.Popen([sys.executable, "-m", "latgreen", "table", "square", "--extent",
+                             "300", "--digits", "40", "--verify", "fast", "--out",
+                             str(tmp_path / "big"), *extra],
+                            env=env, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,
+                            start_new_session=True)
+
+
+def _wait_for_units(tmp_path, count, timeout=90):
+    deadline = time.monotonic() + timeout
+    while time.monotonic() < deadline:
+        if len(list(tmp_path.glob(".big.partial/unit-*.meta.json"))) >= count:
+            return
+        time.sleep(0.02)
+    raise AssertionError("the build saved no work unit in time")
+
+
+@pytest.fixture(scope="module")
+def reference_big(tmp_path_factory):
+    """The same table built in one go, for comparison."""
+    out = tmp_path_factory.mktemp("ref") / "big"
+    make_table(TableRequest("square", "resistance", 300, 40, out, verify="fast",
+                            progress=False, workers=1))
+    return out
+
+
+@pytest.mark.parametrize(("sig", "code", "word", "workers"), [
+    (signal.SIGINT, 130, "interrupted", "1"),   # Ctrl-C on a terminal: the process group
+    (signal.SIGTERM, 143, "terminated", "2"),   # kill, cron timeouts: the main process only
+    (signal.SIGKILL, -9, None, "2"),            # no clean-up at all
+])
+def test_interrupted_build_resumes_to_identical_files(tmp_path, reference_big, sig, code,
+                                                      word, workers):
+    p = _start_build(tmp_path, "--workers", workers)
+    _wait_for_units(tmp_path, 1)
+    if sig in (signal.SIGINT, signal.SIGKILL):  # SIGKILL: the whole job dies at once
         os.killpg(p.pid, sig)
     else:
         p.send_signal(sig)
     _, err = p.communicate(timeout=60)
     assert p.returncode == code, err
-    assert word in err and "Traceback" not in err
-    assert list(tmp_path.iterdir()) == []
+    if word:
+        assert word in err and "Traceback" not in err and "--resume" in err
+    assert not (tmp_path / "big").exists()  # nothing at the output path
+    # a plain re-run is refused; --resume finishes from the saved units
+    again = _start_build(tmp_path, "--workers", workers, "--quiet")
+    _, err = again.communicate(timeout=120)
+    assert again.returncode == 2 and "--resume" in err, err
+    done = _start_build(tmp_path, "--workers", workers, "--resume")
+    _, err = done.communicate(timeout=300)
+    assert done.returncode == 0, err
+    for name in ("values.csv", "values.json"):
+        assert (tmp_path / "big" / name).read_bytes() == (reference_big / name).read_bytes()
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["big"]  # the checkpoint is gone
+
+
+def test_workers_and_units_do_not_change_the_bytes(tmp_path, reference_big):
+    out = tmp_path / "par"
+    make_table(TableRequest("square", "resistance", 300, 40, out, verify="fast",
+                            progress=False, workers=2))
+    for name in ("values.csv", "values.json"):
+        assert (out / name).read_bytes() == (reference_big / name).read_bytes()

@@ -85,7 +85,12 @@ def _parser() -> argparse.ArgumentParser:
                    help="leave the exact forms out of the files (they grow with the extent)")
     t.add_argument("--quiet", action="store_true", help="no progress display")
     t.add_argument("--workers", type=_workers, default=None,
-                   help="processes for the independent checks (default: the machine's cores)")
+                   help="worker processes (default: the machine's cores)")
+    t.add_argument("--resume", action="store_true",
+                   help="continue an interrupted build from its completed work units")
+    t.add_argument("--scheduler", metavar="ADDRESS", default=None,
+                   help="run the work units on the Dask distributed cluster at ADDRESS "
+                        "(e.g. tcp://10.0.0.5:8786)")
 
     c = sub.add_parser("check", help="run the methods against each other over a region")
     c.add_argument("lattice")
@@ -119,7 +124,8 @@ def _cmd_resistance(a: argparse.Namespace) -> int:
 
 def _cmd_table(a: argparse.Namespace) -> int:
     d = make_table(TableRequest(a.lattice, a.quantity, a.extent, a.digits, a.out, a.force,
-                                a.verify, not a.no_exact, not a.quiet, a.workers))
+                                a.verify, not a.no_exact, not a.quiet, a.workers, a.resume,
+                                a.scheduler))
     cc = d["latgreen"]["cross_check"]
     print(f"{a.out}: {cc['rows']} rows, {cc['rows_checked_at_full_digits']} checked at "
           f"{a.digits} digits, minimum agreement {cc['min_agreement_digits']} digits",
@@ -183,6 +189,11 @@ COMMANDS = {"resistance": _cmd_resistance, "table": _cmd_table, "check": _cmd_ch
             "build": _cmd_build, "lattices": _cmd_lattices}
 
 
+def _notes(e: BaseException) -> None:
+    for note in getattr(e, "__notes__", ()):
+        print(f"latgreen: {note}", file=sys.stderr)
+
+
 class Terminated(BaseException):
     """SIGTERM, turned into an exception so that clean-up runs as for Ctrl-C."""
 
@@ -199,6 +210,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         return COMMANDS[args.command](args)
     except VerificationError as e:
         print(f"latgreen: verification failed: {e}", file=sys.stderr)
+        _notes(e)
         return 1
     except (InputError, PrecisionError) as e:
         print(f"latgreen: error: {e}", file=sys.stderr)
@@ -210,11 +222,13 @@ def main(argv: Sequence[str] | None = None) -> int:
         print(f"latgreen: error: {e.strerror or e}: {e.filename or ''}".rstrip(": "),
               file=sys.stderr)
         return 2
-    except KeyboardInterrupt:
+    except KeyboardInterrupt as e:
         print("latgreen: interrupted; no partial output was left behind", file=sys.stderr)
+        _notes(e)
         return 130
-    except Terminated:
+    except Terminated as e:
         print("latgreen: terminated; no partial output was left behind", file=sys.stderr)
+        _notes(e)
         return 143
 
 

@@ -31,11 +31,11 @@ from typing import Any
 
 import numpy as np
 
-from ..errors import VerificationError
+from ..errors import InputError, VerificationError
 from ..quantities import Provider
 from ..rounding import agreement_digits
-from .render import Chunk, RowBlock, render
-from .workers import check_job, init_worker, unit_job
+from .render import Chunk, RowBlock, merge, render
+from .workers import check_job, indexed_unit_job, init_worker
 
 FAST_MIN_AGREEMENT = 12
 FLOAT_MAX_AGREEMENT = 15  # a float64 check cannot confirm more than this
@@ -128,35 +128,58 @@ def plan_units(provider: Provider, extent: int, parts: int) -> list[tuple[int, i
 UNIT_TEXT_BYTES = 200_000_000  # aim at most this much rendered text per unit
 
 
-def chunks(provider: Provider, extent: int, digits: int, verify: str, with_exact: bool = True,
-           on_rows: Callable[[int], None] | None = None, workers: int = 1,
-           text_estimate: int = 0) -> Iterator[Chunk]:
-    """The table's rendered rows, in order.  With ``workers`` > 1 (and a table large enough
-    to pay for it) contiguous work units run in a pool of forked workers, which report
-    progress through a queue; the text is the same whatever the split."""
-    total = provider.lattice.region_size(extent)
-    if workers <= 1 or total < PARALLEL_MIN_SITES:
-        for blk in rows(provider, extent, digits, verify, with_exact, on_batch=on_rows):
-            yield render(blk)
+def unit_count(workers: int, batches: int, text_estimate: int, distributed: bool) -> int:
+    """How many work units: enough for every worker (twice that on a cluster, whose workers
+    may differ in speed), enough to keep each unit's text under UNIT_TEXT_BYTES, and for a
+    serial build enough to checkpoint often (a serial build runs its units in one pass, so
+    more units cost nothing there)."""
+    by_text = -(-text_estimate // UNIT_TEXT_BYTES)
+    if distributed:
+        n = max(2 * workers, by_text)
+    elif workers > 1:
+        n = max(workers, by_text)
+    else:
+        n = max(by_text, min(32, batches // 8))
+    return max(1, min(n, batches))
+
+
+def run_units(provider: Provider, extent: int, digits: int, verify: str, with_exact: bool,
+              units: list[tuple[int, int]], todo: list[int],
+              on_unit: Callable[[int, Chunk], None],
+              on_rows: Callable[[int], None] | None = None, workers: int = 1,
+              scheduler: str | None = None) -> None:
+    """Compute the work units ``todo`` (indices into ``units``) and hand each finished one
+    to ``on_unit`` (in any order): serially in one pass, in a pool of forked workers, or on
+    a Dask distributed cluster at ``scheduler``.  The text of a unit does not depend on
+    where it ran."""
+    if not todo:
         return
-    parts = max(workers, -(-text_estimate // UNIT_TEXT_BYTES))
-    units = plan_units(provider, extent, parts)
-    ctx_queue = _progress_queue()
-    pool = _pool(workers, ctx_queue)
-    args = [(provider.lattice.name, provider.quantity, extent, digits, verify, with_exact,
-             a, b) for a, b in units]
+    name, quantity = provider.lattice.name, provider.quantity
+
+    def args(i: int) -> tuple[Any, ...]:
+        return (name, quantity, extent, digits, verify, with_exact, units[i][0], units[i][1])
+
+    if scheduler is not None:
+        _run_dask(scheduler, [(i, args(i)) for i in todo], on_unit, on_rows)
+        return
+    if workers <= 1 or len(todo) == 1:
+        _run_serial(provider, extent, digits, verify, with_exact, units, todo, on_unit,
+                    on_rows)
+        return
+    progress = _progress_queue()
+    pool = _pool(workers, progress)
     ok = False
     try:
-        it = pool.imap(unit_job, args, chunksize=1)
-        for _ in units:
+        it = pool.imap_unordered(indexed_unit_job, [(i, args(i)) for i in todo], chunksize=1)
+        for _ in todo:
             while True:
                 try:
-                    ch = it.next(timeout=0.25)
+                    i, ch = it.next(timeout=0.25)
                     break
                 except multiprocessing.TimeoutError:
-                    _drain(ctx_queue, on_rows)
-            _drain(ctx_queue, on_rows)
-            yield ch
+                    _drain(progress, on_rows)
+            _drain(progress, on_rows)
+            on_unit(i, ch)
         ok = True
     finally:
         if ok:
@@ -164,6 +187,71 @@ def chunks(provider: Provider, extent: int, digits: int, verify: str, with_exact
         else:
             pool.terminate()
         pool.join()
+
+
+def _run_serial(provider: Provider, extent: int, digits: int, verify: str, with_exact: bool,
+                units: list[tuple[int, int]], todo: list[int],
+                on_unit: Callable[[int, Chunk], None],
+                on_rows: Callable[[int], None] | None) -> None:
+    """One pass over the batches from the first unit to do; units already done are passed
+    over (their batches are still computed where the recurrence needs them)."""
+    want = set(todo)
+    start = units[min(todo)][0]
+    stop = units[max(todo)][1]
+    unit_of = {}
+    for i, (a, b) in enumerate(units):
+        for bi in range(a, b):
+            unit_of[bi] = i
+    parts: list[Chunk] = []
+    current = None
+    for blk_index, blk in _indexed_rows(provider, extent, digits, verify, with_exact, start,
+                                        stop, want, unit_of):
+        i = unit_of[blk_index]
+        if current is not None and i != current:
+            on_unit(current, merge(parts))
+            parts = []
+        current = i
+        if i in want:
+            parts.append(render(blk))
+            if on_rows is not None:
+                on_rows(len(blk))
+    if current is not None and current in want:
+        on_unit(current, merge(parts))
+
+
+def _indexed_rows(provider: Provider, extent: int, digits: int, verify: str,
+                  with_exact: bool, start: int, stop: int, want: set[int],
+                  unit_of: dict[int, int]) -> Iterator[tuple[int, RowBlock]]:
+    name, quantity = provider.lattice.name, provider.quantity
+    for bi, eb in provider.evaluated_batches(extent, digits, with_exact, start, stop):
+        if unit_of[bi] not in want:
+            continue
+        full = verify == "full" or sampled(bi, extent)
+        checks = check_job((name, quantity, eb.sites, digits, full))
+        yield bi, _block(provider, eb, checks, full, digits, with_exact)
+
+
+def _run_dask(scheduler: str, jobs: list[tuple[int, tuple[Any, ...]]],
+              on_unit: Callable[[int, Chunk], None],
+              on_rows: Callable[[int], None] | None) -> None:
+    try:
+        from distributed import Client, as_completed
+    except ImportError:
+        raise InputError("--scheduler needs the 'distributed' package (pip install "
+                         "'latgreen[distributed]')") from None
+    try:
+        client = Client(scheduler, timeout="10s")
+    except (OSError, TimeoutError, ValueError) as e:
+        raise InputError(f"cannot reach the Dask scheduler at {scheduler}: {e}") from None
+    try:
+        futures = {client.submit(indexed_unit_job, job, pure=False): job[0] for job in jobs}
+        for fut in as_completed(futures):
+            i, ch = fut.result()
+            if on_rows is not None:
+                on_rows(ch.rows)
+            on_unit(i, ch)
+    finally:
+        client.close()
 
 
 def _drain(q: Any, on_rows: Callable[[int], None] | None) -> None:

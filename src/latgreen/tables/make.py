@@ -13,7 +13,15 @@ from ..exact.evaluate import FixedPointEvaluator
 from ..progress import Progress
 from ..quantities import Provider, check_digits, get_provider, mpf_fraction
 from ..rounding import agreement_digits
-from .build import choose_verify, chunks, default_workers
+from .build import (
+    PARALLEL_MIN_SITES,
+    choose_verify,
+    default_workers,
+    plan_units,
+    run_units,
+    unit_count,
+)
+from .checkpoint import Checkpoint
 from .export import check_output_dir, table_id, write_table
 
 MAX_EXTENT = 1_000_000
@@ -73,6 +81,8 @@ class TableRequest:
     with_exact: bool = True
     progress: bool = True
     workers: int | None = None  # None: the machine's cores
+    resume: bool = False
+    scheduler: str | None = None  # address of a Dask distributed scheduler
 
 
 def make_table(req: TableRequest) -> dict[str, Any]:
@@ -112,13 +122,70 @@ def make_table(req: TableRequest) -> dict[str, Any]:
     workers = default_workers() if req.workers is None else req.workers
     if workers < 1:
         raise InputError(f"workers must be at least 1, got {workers}")
-    descriptor = write_table(
-        out, lat, req.quantity,
-        chunks(provider, extent, digits, verify, req.with_exact, on_rows=bar.advance,
-               workers=workers, text_estimate=need),
-        meta, force=req.force)
+    if sites < PARALLEL_MIN_SITES and req.scheduler is None:
+        workers = 1
+    params = {"lattice": lat.name, "quantity": req.quantity, "extent": extent,
+              "digits": digits, "verify": verify, "with_exact": req.with_exact}
+    ckpt = Checkpoint(out)
+    if ckpt.exists() and not req.resume:
+        if not req.force:
+            raise InputError(f"an interrupted build of this table is kept at {ckpt.dir}: "
+                             "add --resume to continue it, or --force to start over")
+        ckpt.remove()
+    units: list[tuple[int, int]] | None = None
+    if req.resume and ckpt.exists():
+        old, units = ckpt.plan()
+        if old != params:
+            raise InputError(f"the interrupted build at {ckpt.dir} was made with other "
+                             f"parameters ({_params_text(old)}); use --force to start over")
+        done = ckpt.done(len(units))
+    else:
+        nb = sum(1 for _ in provider.batch_sites(extent))
+        parts = unit_count(_cluster_size(req.scheduler) if req.scheduler else workers, nb,
+                           need, req.scheduler is not None)
+        units = plan_units(provider, extent, parts)
+        ckpt.start(params, units)
+        done = set()
+    sizes = [len(s) for s in provider.batch_sites(extent)]
+    bar.advance(sum(sum(sizes[a:b]) for i, (a, b) in enumerate(units) if i in done))
+    todo = [i for i in range(len(units)) if i not in done]
+    try:
+        run_units(provider, extent, digits, verify, req.with_exact, units, todo,
+                  on_unit=ckpt.save, on_rows=bar.advance, workers=workers,
+                  scheduler=req.scheduler)
+        descriptor = write_table(out, lat, req.quantity,
+                                 (ckpt.chunk(i) for i in range(len(units))), meta,
+                                 force=req.force)
+    except BaseException as e:
+        kept = len(ckpt.done(len(units))) if ckpt.exists() else 0
+        if kept:
+            e.add_note(f"{kept} of {len(units)} work units are kept in {ckpt.dir}; the same "
+                       "command with --resume continues from them")
+        else:
+            ckpt.remove()
+        raise
+    ckpt.remove()
     bar.finish(f"{sites:,} rows written to {out}")
     return descriptor
+
+
+def _params_text(p: dict[str, Any]) -> str:
+    return ", ".join(f"{k} {v}" for k, v in p.items())
+
+
+def _cluster_size(scheduler: str) -> int:
+    """Workers of the Dask cluster at ``scheduler`` (to plan the units), checked before any
+    work starts."""
+    try:
+        from distributed import Client
+    except ImportError:
+        raise InputError("--scheduler needs the 'distributed' package (pip install "
+                         "'latgreen[distributed]')") from None
+    try:
+        with Client(scheduler, timeout="5s") as c:
+            return max(1, len(c.scheduler_info().get("workers", {})))
+    except (OSError, TimeoutError, ValueError) as e:
+        raise InputError(f"cannot reach the Dask scheduler at {scheduler}: {e}") from None
 
 
 @dataclass

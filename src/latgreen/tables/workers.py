@@ -34,6 +34,13 @@ def unit_job(args: tuple[str, str, int, int, str, bool, int, int]) -> Any:
                   rows(p, extent, digits, verify, with_exact, start, stop, on_batch=_report)])
 
 
+def indexed_unit_job(job: tuple[int, tuple[str, str, int, int, str, bool, int, int]]) -> Any:
+    """(index, unit arguments) -> (index, chunk): for pools and clusters that return results
+    in any order."""
+    i, args = job
+    return i, unit_job(args)
+
+
 def ignore_sigint() -> None:
     """Worker start-up: Ctrl-C is the main process's business; SIGTERM (how the pool is
     terminated) ends the worker at once, whatever handler the parent had."""
