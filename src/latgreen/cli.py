@@ -104,6 +104,27 @@ def _parser() -> argparse.ArgumentParser:
     b.add_argument("--out", type=Path, default=Path("tables"), help="catalogue directory")
     b.add_argument("--quiet", action="store_true")
 
+    au = sub.add_parser("audit", help="compare another code's values with our references")
+    au.add_argument("file", type=Path, help="CSV or JSON file of the other code's values")
+    au.add_argument("--lattice", required=True)
+    au.add_argument("--quantity", default="resistance")
+    au.add_argument("--energy", default=None, help="energy, for energy-dependent quantities")
+    au.add_argument("--site-columns", default=None, metavar="COLS",
+                    help="comma list of the columns holding the site (default: the "
+                         "lattice's coordinate names, e.g. m,n)")
+    au.add_argument("--value-column", default="value", metavar="NAME")
+    au.add_argument("--tolerance", type=float, default=1e-12, metavar="REL",
+                    help="largest relative error counted as ok (default 1e-12)")
+    au.add_argument("--scale", default="1",
+                    help="their value = SCALE x ours (e.g. 2, 1/3, 0.5)")
+    au.add_argument("--negate", action="store_true", help="their sign is the opposite of ours")
+    au.add_argument("--origin", default=None, metavar="COORDS",
+                    help="their sites are measured from this site (comma list)")
+    au.add_argument("--digits", type=_digits, default=20, help="digits of the references")
+    au.add_argument("--json", action="store_true", help="the full report as JSON")
+    au.add_argument("--plot", type=Path, default=None, metavar="FILE.png",
+                    help="agreeing digits against distance from the origin")
+
     sub.add_parser("lattices", help="list the lattices, their sites and conventions")
     return p
 
@@ -177,6 +198,53 @@ def _cmd_build(a: argparse.Namespace) -> int:
     return 0
 
 
+def _cmd_audit(a: argparse.Namespace) -> int:
+    from fractions import Fraction
+
+    from .lattices import get_lattice
+    from .tables.audit import Conventions, audit, plot
+
+    if a.energy is not None:
+        raise InputError(f"--energy does not apply to the {a.quantity} quantity")
+    lat = get_lattice(a.lattice)
+    cols = (a.site_columns.split(",") if a.site_columns else list(lat.coordinate_names))
+    cols = [c.strip() for c in cols]
+    try:
+        scale = Fraction(a.scale.strip())
+    except (ValueError, ZeroDivisionError):
+        msg = f"--scale must be a number such as 2, 0.5 or 1/3, got {a.scale!r}"
+        raise InputError(msg) from None
+    origin = None
+    if a.origin:
+        try:
+            origin = tuple(int(x) for x in a.origin.split(","))
+        except ValueError:
+            raise InputError(f"--origin must be integers separated by commas, got "
+                             f"{a.origin!r}") from None
+    if not a.file.is_file():
+        raise InputError(f"no such file: {a.file}")
+    rep = audit(a.file, a.lattice, a.quantity, cols, a.value_column, a.tolerance,
+                Conventions(scale, a.negate, origin), a.digits)
+    if a.plot is not None:
+        plot(rep, a.plot)
+    summ = rep.summary()
+    if a.json:
+        print(json.dumps({"summary": summ, "rows": [r.to_json() for r in rep.rows]}))
+    else:
+        print(tabulate([[k, v] for k, v in summ.items()], tablefmt="simple",
+                       disable_numparse=True))
+        bad = [r for r in rep.rows if r.status != "ok"]
+        if bad:
+            print()
+            print(tabulate([[r.line, ",".join(r.site), r.status, r.value, r.expected,
+                             r.agreeing_digits, r.message] for r in bad[:50]],
+                           headers=["line", "site", "status", "value", "expected",
+                                    "digits", "note"], disable_numparse=True))
+            if len(bad) > 50:
+                print(f"... and {len(bad) - 50} more (see --json)")
+    return rep.exit_status()
+
+
 def _cmd_lattices(a: argparse.Namespace) -> int:
     rows = [[lat.name, ", ".join(lat.coordinate_names), lat.z,
              f"[{lat.band[0]}, {lat.band[1]}]", lat.description]
@@ -186,7 +254,7 @@ def _cmd_lattices(a: argparse.Namespace) -> int:
 
 
 COMMANDS = {"resistance": _cmd_resistance, "table": _cmd_table, "check": _cmd_check,
-            "build": _cmd_build, "lattices": _cmd_lattices}
+            "build": _cmd_build, "audit": _cmd_audit, "lattices": _cmd_lattices}
 
 
 def _notes(e: BaseException) -> None:
