@@ -125,6 +125,11 @@ def _parser() -> argparse.ArgumentParser:
     au.add_argument("--plot", type=Path, default=None, metavar="FILE.png",
                     help="agreeing digits against distance from the origin")
 
+    v = sub.add_parser("verify", help="check a published table: hashes, package, rows")
+    v.add_argument("dir", type=Path, help="the table's directory (with datapackage.json)")
+    v.add_argument("--all", action="store_true", help="recompute every row, not a sample")
+    v.add_argument("--json", action="store_true")
+
     sub.add_parser("lattices", help="list the lattices, their sites and conventions")
     return p
 
@@ -245,6 +250,22 @@ def _cmd_audit(a: argparse.Namespace) -> int:
     return rep.exit_status()
 
 
+def _cmd_verify(a: argparse.Namespace) -> int:
+    from .tables.verify import report_json, verify_table
+
+    rep = verify_table(a.dir, all_rows=a.all)
+    if a.json:
+        print(json.dumps(report_json(rep)))
+    else:
+        state = "ok" if rep.ok else f"{len(rep.problems)} problem(s)"
+        print(f"{rep.path}: {state}; {rep.total_rows} rows, {rep.checked_rows} recomputed")
+        for p in rep.problems:
+            print(f"problem: {p}")
+        for n in rep.notes:
+            print(f"note: {n}")
+    return 0 if rep.ok else 1
+
+
 def _cmd_lattices(a: argparse.Namespace) -> int:
     rows = [[lat.name, ", ".join(lat.coordinate_names), lat.z,
              f"[{lat.band[0]}, {lat.band[1]}]", lat.description]
@@ -254,7 +275,8 @@ def _cmd_lattices(a: argparse.Namespace) -> int:
 
 
 COMMANDS = {"resistance": _cmd_resistance, "table": _cmd_table, "check": _cmd_check,
-            "build": _cmd_build, "audit": _cmd_audit, "lattices": _cmd_lattices}
+            "build": _cmd_build, "audit": _cmd_audit, "verify": _cmd_verify,
+            "lattices": _cmd_lattices}
 
 
 def _notes(e: BaseException) -> None:
