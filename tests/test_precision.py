@@ -55,3 +55,13 @@ def test_far_site_beyond_exact_range_uses_quadrature_and_far_field():
     assert r.agreement_digits == 20
     with pytest.raises(latgreen.InputError, match="at most --digits"):
         latgreen.resistance("square", (2500, 3), digits=40)
+
+
+def test_thousand_digits_at_the_ceiling():
+    # regression: panels as wide as 0.4 limited the quadrature to about 745 digits, so the
+    # documented ceiling of 1000 digits failed its own cross-check
+    r = latgreen.resistance("square", (2, 1), digits=latgreen.MAX_DIGITS)
+    assert r.agreement_digits == 1000 and len(r.value) == len("0.") + 1000
+    with mpmath.workdps(1020):  # 4/pi - 1/2: Atkinson & van Steenwijk (1999), Table I
+        assert r.value == mpmath.nstr(4 / mpmath.pi - mpmath.mpf(1) / 2, 1000,
+                                      strip_zeros=False)

@@ -34,7 +34,20 @@ from mpmath.calculus.quadrature import GaussLegendre
 
 LN10 = math.log(10)
 HALF_PI = math.pi / 2  # as a panel end: stands for the exact pi/2
-STRIP = 0.4  # widest panel in x (the integrand has singularities at x = +-0.88i, and 0)
+SING = math.asinh(1.0)  # the integrand's singularities nearest the real axis: x = +-0.88i
+
+
+def _rho(wdigits: float, k: int) -> float:
+    """Bernstein-ellipse parameter a k-node Gauss-Legendre panel needs for 10^-wdigits:
+    the error falls like rho^(-2k); 20% to spare."""
+    return math.exp(1.2 * wdigits * LN10 / (2 * k))
+
+
+def _strip(wdigits: float, k: int) -> float:
+    """Widest panel in x: its half-width a must keep the singularities at distance SING
+    outside the ellipse, SING/a >= (rho - 1/rho)/2."""
+    r = _rho(wdigits, k)
+    return 2 * SING / ((r - 1 / r) / 2)
 
 
 _GL_CACHE: dict[int, tuple[int, tuple[tuple[int, int, int, int], ...]]] = {}
@@ -73,7 +86,7 @@ def _plan(m: int, wdigits: float, k: int) -> tuple[list[tuple[float, float]], fl
     h_u = 0.5 * 10 ** ((log10_fact - wdigits) / (2 * k))
     u_c = wdigits * LN10 / 2 + 2.0
     x_c = math.asin(min(1.0, math.sinh(u_c / m))) if u_c / m < 0.88 else math.pi / 2
-    width = min(h_u / m, STRIP)
+    width = min(h_u / m, _strip(wdigits, k))
     count = max(1, math.ceil(x_c / width))
     edges = [x_c * j / count for j in range(count)] + [x_c]
     return list(zip(edges[:-1], edges[1:], strict=True)), x_c
@@ -90,11 +103,17 @@ def _choose_degree(wdigits: float) -> int:
     return 8
 
 
-def _tail_panels(x_c: float) -> list[tuple[float, float]]:
+def _tail_panels(x_c: float, wdigits: float, k: int) -> list[tuple[float, float]]:
+    """Panels from x_c to pi/2, growing geometrically away from the pole at x = 0: a panel
+    [a, b] needs (b + a)/(b - a) >= (rho + 1/rho)/2, and none wider than the strip."""
+    r = _rho(wdigits, k)
+    x = (r + 1 / r) / 2
+    ratio = (x + 1) / (x - 1)
+    strip = _strip(wdigits, k)
     out = []
     a = x_c
     while a < math.pi / 2:
-        b = min(math.pi / 2, max(2 * a, a + 1e-300), a + STRIP)
+        b = min(math.pi / 2, max(ratio * a, a + 1e-300), a + strip)
         out.append((a, b))
         a = b
     return out
@@ -152,7 +171,7 @@ def column(m: int, ns: Sequence[int], digits: int) -> list[mpmath.mpf]:
             base += w * -gmpy2.expm1(-a) / q
             osc.append(2 * w * gmpy2.exp(-a) / q)
         if x_c < math.pi / 2:
-            txs, tws = _mpfr_nodes(_tail_panels(x_c), degree, bits)
+            txs, tws = _mpfr_nodes(_tail_panels(x_c, wdigits, k), degree, bits)
             for x, w in zip(txs, tws, strict=True):
                 sg = gmpy2.sin(x)
                 q = sg * gmpy2.sqrt(1 + sg * sg)
@@ -212,7 +231,7 @@ def column_float(m: int, n_max: int | None = None) -> np.ndarray:
     e = 2 * m * np.arcsinh(sg)
     base = float(np.sum(w * -np.expm1(-e) / q))
     if x_c < math.pi / 2:
-        tail = _tail_panels(x_c)
+        tail = _tail_panels(x_c, wdigits, k)
         ta = np.array([p[0] for p in tail])
         tb = np.array([p[1] for p in tail])
         tx = ((tb - ta)[:, None] / 2 * gx[None, :] + (tb + ta)[:, None] / 2).ravel()
