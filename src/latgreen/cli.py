@@ -7,7 +7,6 @@ methods gives exit status 1.  Data goes to stdout, progress and messages to stde
 from __future__ import annotations
 
 import argparse
-import contextlib
 import json
 import signal
 import sys
@@ -22,7 +21,7 @@ from . import __version__
 from .errors import InputError, LatgreenError, PrecisionError, VerificationError
 from .lattices import LATTICES
 from .quantities import MAX_DIGITS, QUANTITIES, resistance
-from .tables.make import CATALOGUE, TableRequest, build_catalogue, check_region, make_table
+from .tables.make import TableRequest, build_catalogue, check_region, make_table
 
 
 class _Parser(argparse.ArgumentParser):
@@ -180,23 +179,11 @@ def _cmd_check(a: argparse.Namespace) -> int:
 
 
 def _cmd_build(a: argparse.Namespace) -> int:
-    out = Path(a.out)
-    before = {}
-    for lattice, quantity, *_ in CATALOGUE:
-        pkg = out / f"{lattice}-{quantity}" / "datapackage.json"
-        if pkg.is_file():
-            with contextlib.suppress(ValueError, KeyError, TypeError):
-                before[pkg.parent.name] = {r["path"]: r.get("hash") for r in
-                                           json.loads(pkg.read_text())["resources"]}
-    descriptors = build_catalogue(out, progress=not a.quiet)
+    results = build_catalogue(Path(a.out), progress=not a.quiet)
     rows = []
-    for d in descriptors:
-        name = d["name"]
-        after = {r["path"]: r["hash"] for r in d["resources"]}
-        state = ("new" if name not in before else
-                 "data unchanged" if before[name] == after else "data changed")
+    for state, d in results:
         cc = d["latgreen"]["cross_check"]
-        rows.append([name, d["latgreen"]["extent"], d["latgreen"]["digits"], cc["rows"],
+        rows.append([d["name"], d["latgreen"]["extent"], d["latgreen"]["digits"], cc["rows"],
                      cc["min_agreement_digits"], state])
     print(tabulate(rows, headers=["table", "extent", "digits", "rows", "min agreement",
                                   "state"]))

@@ -83,6 +83,7 @@ class TableRequest:
     workers: int | None = None  # None: the machine's cores
     resume: bool = False
     scheduler: str | None = None  # address of a Dask distributed scheduler
+    version: str = "1"  # the version recorded in the descriptor
 
 
 def make_table(req: TableRequest) -> dict[str, Any]:
@@ -109,7 +110,7 @@ def make_table(req: TableRequest) -> dict[str, Any]:
                    enabled=req.progress)
     meta = {
         "lattice": lat.name, "quantity": req.quantity, "extent": extent, "digits": digits,
-        "verify": verify,
+        "verify": verify, "version": req.version,
         "region": f"canonical sites up to extent {extent} ({sites} sites)",
         "methods": {
             "primary": "recurrence: exact forms derived from proven seeds and the lattice "
@@ -241,13 +242,20 @@ CATALOGUE = (
 )
 
 
-def build_catalogue(root: Path, progress: bool = True) -> list[dict[str, Any]]:
-    """Build every table of the default catalogue into ``root/<table-id>/``."""
+def build_catalogue(root: Path, progress: bool = True) -> list[tuple[str, dict[str, Any]]]:
+    """Build every table of the default catalogue; publish a new version under
+    ``root/<table-id>/v<N>/`` only where the data differ from the current version."""
+    from .versions import publish
+
     out = []
     for lattice, quantity, extent, digits in CATALOGUE:
-        req = TableRequest(lattice, quantity, extent, digits, root / table_id(lattice, quantity),
-                           force=True, verify="full", progress=progress)
-        out.append(make_table(req))
+        def build(staging: Path, version: str, lattice: str = lattice, quantity: str = quantity,
+                  extent: int = extent, digits: int = digits) -> dict[str, Any]:
+            req = TableRequest(lattice, quantity, extent, digits, staging, verify="full",
+                               progress=progress, version=version)
+            return make_table(req)
+
+        out.append(publish(root, table_id(lattice, quantity), build))
     return out
 
 
