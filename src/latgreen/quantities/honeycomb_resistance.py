@@ -63,7 +63,7 @@ class HoneycombResistance(Provider):
         sites = self.lattice.region_size(extent)
         per_row = 2 * (digits + 60)
         if with_exact:
-            per_row += int(4 * 1.6 * extent / 3) + 60
+            per_row += int(4 * 1.4 * extent) + 60  # as measured for the triangular lattice
         return sites * per_row
 
 
