@@ -112,6 +112,19 @@ def test_adaptive_tanh_sinh_agrees_with_the_panel_rule(site):
     assert agreement_digits(mpf_fraction(a), mpf_fraction(b), 40) >= 39
 
 
+@pytest.mark.parametrize("digits", [3, 120])
+def test_quadrature_at_low_and_high_digits(digits):
+    for col in eh.columns(7):
+        if col.m in (0, 1, 7):
+            ev = FixedPointEvaluator(eh.BASIS, col.dens, digits)
+            q = hq.quad_sites(col.sites, digits)
+            for k, x in enumerate(col.sites):
+                if any(x):
+                    got = agreement_digits(ev.evaluate(col.nums[k]).center, mpf_fraction(q[k]),
+                                           digits)
+                    assert got == digits, x
+
+
 def test_float64_quadrature_reaches_13_digits():
     for col in eh.columns(80):
         if col.m in (1, 33, 80):

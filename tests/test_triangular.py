@@ -6,6 +6,7 @@ import itertools
 import math
 from fractions import Fraction as F
 
+import flint
 import mpmath
 import pytest
 import sympy
@@ -13,7 +14,14 @@ import sympy
 import latgreen
 from finite_network import grounded_inverse, two_point
 from latgreen.exact.evaluate import FixedPointEvaluator, evaluate_form
-from latgreen.exact.triangular import BASIS, Sector, reduce_column, resistance_form
+from latgreen.exact.triangular import (
+    _SEEDS,
+    BASIS,
+    Sector,
+    axis_part,
+    reduce_column,
+    resistance_form,
+)
 from latgreen.lattices.triangular import POINT_GROUP, TRIANGULAR, apply
 from latgreen.methods import triangular_asymptotic as asy
 from latgreen.methods import triangular_quadrature as tq
@@ -182,6 +190,47 @@ def test_axis_cancellation_at_m200():
 def test_far_field_constant_matches_oeis_prefix():
     # OEIS A355954: 0.3344120313924198... (16 digits listed there)
     assert mpmath.nstr(asy.constant_tri(30), 16) == "0.3344120313924198"
+
+
+def test_far_field_constant_by_extrapolation_of_exact_axis_values():
+    # the derived closed form of A against our exact values (a separate derivation):
+    # Neville extrapolation in 1/m^2 of R(m,0) - ln(m)/(sqrt3 pi), m = 800, 820, ..., 1400
+    # (the expansion has only even powers of 1/m on the axis); agreement 3e-133 when written
+    ms = list(range(800, 1401, 20))
+    (XA, LA), (XB, LB) = axis_part(_SEEDS[0], 1400), axis_part(_SEEDS[1], 1400)
+    old = flint.ctx.prec
+    try:
+        flint.ctx.prec = 7000
+        a = flint.arb
+        c, den = a(3).sqrt() / a.pi(), a(3).sqrt() * a.pi()
+        ys = [a(XA[m]) / LA + a(XB[m]) / LB * c - a(m).log() / den for m in ms]
+    finally:
+        flint.ctx.prec = old
+    with mpmath.workprec(7000):
+        xs = [mpmath.mpf(1) / (m * m) for m in ms]
+        P = [mpmath.mpf(y.mid().str(2000, radius=False)) for y in ys]
+        for k in range(1, len(xs)):
+            for i in range(len(xs) - k):
+                P[i] = (xs[i + k] * P[i] - xs[i] * P[i + 1]) / (xs[i + k] - xs[i])
+        assert abs(P[0] - asy.constant_tri(150)) < mpmath.mpf(10) ** -120
+
+
+def test_elementary_integral_of_the_constant_derivation():
+    # the two steps of the derivation in methods/triangular_asymptotic.py (ours), by tanh-sinh:
+    # int_0^1 [1/sqrt(3 + w^2) - 1/sqrt3] dw / (w sqrt(1 - w^2))
+    #   = -(1/sqrt3) int_0^{pi/6} dphi / (sqrt3 + 2 cos phi) = -(1/sqrt3) ln(2/sqrt3)
+    # (the first integral with w = sin(theta), which removes the end-point singularity)
+    with mpmath.workdps(70):
+        r3 = mpmath.sqrt(3)
+
+        def g(th):
+            w = mpmath.sin(th)
+            return (1 / mpmath.sqrt(3 + w * w) - 1 / r3) / w
+
+        phi = mpmath.quad(lambda p: 1 / (r3 + 2 * mpmath.cos(p)), [0, mpmath.pi / 6])
+        assert abs(phi - mpmath.log(2 / r3)) < mpmath.mpf(10) ** -65
+        assert abs(mpmath.quad(g, [0, mpmath.pi / 2]) + mpmath.log(2 / r3) / r3) \
+            < mpmath.mpf(10) ** -60
 
 
 def test_far_field_error_estimate_holds_to_extent_120():
