@@ -20,8 +20,9 @@ panels of width ~ 1/lambda, lambda = max |sqrt(3) E/2 + i j/2| over the pairs, u
 the smallest E; beyond k_c only the pair-independent tail 1/(2 w sqrt(3 + w^2)) remains,
 integrated once on geometric panels (it has a pole at k = 0, at distance k_c).  The powers
 t^E (E ascending: multiply by t) and sin(j k/4) (three-term recurrence in j) are fixed-point
-integer vectors over the nodes (numpy object arrays); guard bits cover the linear error growth
-of both recurrences.  :func:`reduced_batch_float` is the same rule in numpy float64.
+integer vectors over the nodes (numpy object arrays), each started at the smallest E and j
+needed; guard bits cover the linear error growth of both recurrences.
+:func:`reduced_batch_float` is the same rule in numpy float64.
 """
 
 from __future__ import annotations
@@ -86,11 +87,19 @@ def _plan(pairs: Sequence[Pair], wdigits: float, k: int
     return list(zip(edges[:-1], edges[1:], strict=True)), k_c
 
 
-def _tail_panels(k_c: float) -> list[tuple[float, float]]:
+def _tail_panels(k_c: float, wdigits: float, k: int) -> list[tuple[float, float]]:
+    """Geometric panels from k_c to pi for the tail, whose integrand has a pole at k = 0.
+
+    A k-node rule on [a, b] converges like rho^(-2k), rho = 1 + delta + sqrt(delta^2 + 2 delta)
+    with delta = 2a/(b - a) (the pole's distance in half-lengths): [a, 2a] gives rho = 5.83,
+    enough below about 1.5 k digits; beyond, the panels shrink to reach 10^-wdigits."""
+    rho = 10 ** ((wdigits + 5) / (2 * k))
+    delta = (rho + 1 / rho) / 2 - 1
+    grow = min(1.0, 2 / delta)  # b = a (1 + grow)
     out = []
     a = k_c
     while a < math.pi:
-        b = min(math.pi, max(2 * a, a + 1e-300), a + STRIP)
+        b = min(math.pi, max(a * (1 + grow), a + 1e-300), a + STRIP)
         out.append((a, b))
         a = b
     return out
@@ -139,8 +148,11 @@ def reduced_batch(pairs: Sequence[Pair], digits: int) -> list[mpmath.mpf]:
     with gmpy2.context(gmpy2.get_context(), precision=bits):
         one = gmpy2.mpfr(2) ** fb
         xs, ws = _mpfr_nodes(head, degree, bits)
-        W, T, C, S1, P0 = [], [], [], [], []
+        W, T, C, S0, S1, P0 = [], [], [], [], [], []
         e_min = min(e for e, _ in pairs)
+        # the sine recurrence starts at the smallest j needed (a single far site needs one
+        # sine per node, not j of them)
+        j0 = max(1, min(j for _, j in pairs))
         for x, wt in zip(xs, ws, strict=True):
             w = gmpy2.sin(x / 2)
             q = gmpy2.sqrt(3 + w * w)
@@ -148,11 +160,13 @@ def reduced_batch(pairs: Sequence[Pair], digits: int) -> list[mpmath.mpf]:
             W.append(int(gmpy2.rint(wt / (2 * w * q) * one)))
             T.append(int(gmpy2.rint(t * one)))
             C.append(int(gmpy2.rint(2 * gmpy2.cos(x / 4) * one)))
-            S1.append(int(gmpy2.rint(gmpy2.sin(x / 4) * one)))
+            S0.append(int(gmpy2.rint(gmpy2.sin((j0 - 1) * x / 4) * one)))
+            S1.append(int(gmpy2.rint(gmpy2.sin(j0 * x / 4) * one)))
             P0.append(int(gmpy2.rint(t**e_min * one)))
         tail = gmpy2.mpfr(0)
         if k_c < math.pi:
-            txs, tws = _mpfr_nodes(_tail_panels(k_c), degree, bits)
+            txs, tws = _mpfr_nodes(_tail_panels(k_c, wdigits, 3 * 2 ** (degree - 1)), degree,
+                                   bits)
             for x, wt in zip(txs, tws, strict=True):
                 w = gmpy2.sin(x / 2)
                 tail += wt / (2 * w * gmpy2.sqrt(3 + w * w))
@@ -176,12 +190,12 @@ def reduced_batch(pairs: Sequence[Pair], digits: int) -> list[mpmath.mpf]:
         # sin^2(j k/4) for every j needed, ascending: Q[j] (scale 2^fb)
         js = sorted({j for _, j in pairs})
         Q: dict[int, np.ndarray] = {}
-        s_prev = np.zeros(len(W), dtype=object)
+        s_prev = np.array(S0, dtype=object)
         s_cur = np.array(S1, dtype=object)
-        j = 1
+        j = j0
         for target in js:
             if target == 0:
-                Q[0] = s_prev
+                Q[0] = np.zeros(len(W), dtype=object)
                 continue
             while j < target:
                 s_prev, s_cur = s_cur, ((Cv * s_cur) >> fb) - s_prev
@@ -220,7 +234,7 @@ def reduced_batch_float(pairs: Sequence[Pair]) -> np.ndarray:
     lnt = np.log(np.cos(x / 2) / (1 + w * w + w * q))
     tail = 0.0
     if k_c < math.pi:
-        tx, tw = nodes(_tail_panels(k_c))
+        tx, tw = nodes(_tail_panels(k_c, 17.0, k))
         ts = np.sin(tx / 2)
         tail = float(np.sum(tw / (2 * ts * np.sqrt(3 + ts * ts))))
     E = np.array([e for e, _ in pairs], dtype=float)
