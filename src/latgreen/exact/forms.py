@@ -31,11 +31,15 @@ class Constant:
             rest = self.name[2:]
             return f"{p}/{rest}" if q == 1 else f"{p}/({q}*{rest})"
         head = "" if p == 1 else f"{p}*"
+        if "/" in self.name:  # "sqrt(3)/pi": 4*sqrt(3)/(3*pi), not 4*sqrt(3)/pi/3
+            top, bottom = self.name.split("/", 1)
+            return f"{head}{top}/{bottom}" if q == 1 else f"{head}{top}/({q}*{bottom})"
         return f"{head}{self.name}" if q == 1 else f"{head}{self.name}/{q}"
 
 
 ONE = Constant("1", lambda: flint.arb(1))
 INV_PI = Constant("1/pi", lambda: 1 / flint.arb.pi())
+SQRT3_OVER_PI = Constant("sqrt(3)/pi", lambda: flint.arb(3).sqrt() / flint.arb.pi())
 
 
 @dataclass(frozen=True)
@@ -48,6 +52,10 @@ class ExactForm:
     >>> f = ExactForm((Fraction(-4), Fraction(46, 3)), (ONE, INV_PI))
     >>> str(f)
     '46/(3*pi) - 4'
+    >>> str(ExactForm((Fraction(-5), Fraction(10)), (ONE, SQRT3_OVER_PI)))
+    '10*sqrt(3)/pi - 5'
+    >>> str(ExactForm((Fraction(8, 3), Fraction(-4, 3)), (ONE, SQRT3_OVER_PI)))
+    '8/3 - 4*sqrt(3)/(3*pi)'
     """
 
     coeffs: tuple[Fraction, ...]

@@ -20,12 +20,16 @@ from ..exact.forms import ExactForm
 from ..lattices import Site, get_lattice
 from ..rounding import Rounded, agreement_digits, round_interval
 from .base import Batch, Provider
+from .honeycomb_resistance import HONEYCOMB_RESISTANCE
 from .square_resistance import SQUARE_RESISTANCE
+from .triangular_resistance import TRIANGULAR_RESISTANCE
 
 MAX_DIGITS = 1000
 QUANTITIES = ("resistance",)
 PROVIDERS: dict[tuple[str, str], Provider] = {
     ("square", "resistance"): SQUARE_RESISTANCE,
+    ("triangular", "resistance"): TRIANGULAR_RESISTANCE,
+    ("honeycomb", "resistance"): HONEYCOMB_RESISTANCE,
 }
 
 

@@ -238,6 +238,8 @@ def check_region(lattice: str, extent: int, digits: int, quantity: str = "resist
 CATALOGUE = (
     # (lattice, quantity, extent, digits)
     ("square", "resistance", 100, 50),
+    ("triangular", "resistance", 60, 50),
+    ("honeycomb", "resistance", 60, 50),
 )
 
 
