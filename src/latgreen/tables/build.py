@@ -55,6 +55,8 @@ class RowBlock:
     bounds: list[str]
     methods: list[str]
     agreements: list[int]
+    imags: list[str] | None = None  # complex quantities: values holds the real parts
+    imag_bounds: list[str] | None = None
 
     def __len__(self) -> int:
         return len(self.sites)
@@ -112,7 +114,8 @@ def rows(provider: Provider, extent: int, digits: int, verify: str, with_exact: 
             for bi, sites in enumerate(provider.batch_sites(extent))]
     total = sum(len(s) for s, _ in plan)
     pool = _pool(workers) if workers > 1 and total >= PARALLEL_MIN_SITES else None
-    jobs = ((name, quantity, sites, digits, full) for sites, full in plan)
+    energy = None if provider.energy is None else str(provider.energy)
+    jobs = ((name, quantity, energy, sites, digits, full) for sites, full in plan)
     results: Iterator[list[Any]] = (pool.imap(check_job, jobs, chunksize=1)
                                     if pool is not None else map(check_job, jobs))
     ok = False
@@ -135,12 +138,44 @@ def rows(provider: Provider, extent: int, digits: int, verify: str, with_exact: 
             pool.join()
 
 
+def _complex_block(provider: Provider, eb: Any, checks: Sequence[Any], digits: int,
+                   with_exact: bool) -> RowBlock:
+    """Rows of a complex quantity: each component confirmed by the full-precision quadrature
+    (``checks`` holds (re, im) pairs as Fractions); a component 0 by symmetry must have a
+    quadrature value below 10^-digits |G|."""
+    from ..quantities.green_api import component_agreement
+
+    re_c, im_c = eb.rounded, eb.imag
+    agree = []
+    for k in range(len(eb.sites)):
+        centre = (re_c.center(k), im_c.center(k))
+        zero = (re_c.values[k] == "0", im_c.values[k] == "0")
+        agree.append(component_agreement(centre, checks[k], zero, digits))
+    bad = [k for k, g in enumerate(agree) if g < digits]
+    if bad:
+        k = bad[0]
+        raise VerificationError(
+            f"{provider.lattice.name} {provider.quantity} at E = {provider.energy}, site "
+            f"{eb.sites[k]}: recurrence and quadrature agree to only {agree[k]} digits "
+            f"(need {digits})")
+    forms = eb.forms if with_exact and eb.forms is not None else None
+    n = len(eb.sites)
+    return RowBlock(
+        sites=eb.sites, values=re_c.values,
+        exacts=[str(f) for f in forms] if forms is not None else [""] * n,
+        hows=[f.how for f in forms] if forms is not None else [""] * n,
+        bounds=re_c.bounds, methods=["recurrence;quadrature"] * n, agreements=agree,
+        imags=im_c.values, imag_bounds=im_c.bounds)
+
+
 def _block(provider: Provider, eb: Any, checks: Sequence[Any], full: bool, digits: int,
            with_exact: bool) -> RowBlock:
     method = "quadrature" if full else "quadrature-float64"
     need = digits if full else min(FAST_MIN_AGREEMENT, digits)
     rc = eb.rounded
     origin = [k for k, site in enumerate(eb.sites) if not any(site)]
+    if eb.imag is not None:
+        return _complex_block(provider, eb, checks, digits, with_exact)
     if full:
         agree = [agreement_digits(rc.center(k), checks[k] if isinstance(checks[k], Fraction)
                                   else Fraction(checks[k]), digits)

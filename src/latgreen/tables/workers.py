@@ -15,12 +15,14 @@ def ignore_sigint() -> None:
     signal.signal(signal.SIGTERM, signal.SIG_DFL)
 
 
-def check_job(args: tuple[str, str, list[tuple[int, ...]], int, bool]) -> list[Any]:
-    """One batch's independent values: (lattice, quantity, sites, digits, full)."""
+def check_job(args: tuple[str, str, str | None, list[tuple[int, ...]], int, bool]) -> list[Any]:
+    """One batch's independent values: (lattice, quantity, energy, sites, digits, full)."""
     from ..quantities import get_provider, mpf_fraction
 
-    lattice, quantity, sites, digits, full = args
-    p = get_provider(lattice, quantity)
+    lattice, quantity, energy, sites, digits, full = args
+    p = get_provider(lattice, quantity, energy)
+    if p.complex_valued:
+        return p.quad_sites(sites, digits)  # (re, im) pairs of Fractions
     if full:
         return [mpf_fraction(q) for q in p.quad_sites(sites, digits)]
     return list(p.quad_float_sites(sites))
