@@ -254,3 +254,29 @@ def evaluate(form: GreenForm, E: Energy, site: tuple[int, int], digits: int) -> 
                            zero_parts(E, *site), f"G({E};{site[0]},{site[1]})")
 
 
+
+
+def band_edge_limit(m: int, n: int) -> tuple[Fraction, Fraction]:
+    """R(m, n) = lim_(E -> 4+) 2[G(E;0,0) - G(E;m,n)] = p + q/pi from the exact forms, as
+    (p, q).
+
+    G00 - G(m,n) = (1 - a - b) G00 + b (G00 - G11) - c, and by the G11 closed form
+    G00 - G11 = ((16 - E^2)/8) G00 + (E/(4 pi)) E(16/E^2) -> 1/pi (E(1) = 1, DLMF 19.6.1)
+    while G00 = O(log 1/(E-4)).  a, b, c are polynomials in E, so when a(4) + b(4) = 1 the
+    term (1 - a - b) G00 = O((E-4) log) vanishes and R = 2 b(4)/pi - 2 c(4).  The condition
+    is checked (ArithmeticError otherwise), not assumed.  The recurrence runs at E = 4, which
+    the public energy check refuses: here only polynomial coefficients are evaluated there.
+
+    >>> band_edge_limit(3, 1)
+    (Fraction(-4, 1), Fraction(46, 3))
+    """
+    m, n = abs(m), abs(n)
+    if n > m:
+        m, n = n, m
+    last: list[Any] = []
+    for last in _columns_real(mpq(4), m):  # noqa: B007 - the last column is the one wanted
+        pass
+    a, b, c = last[n]
+    if a + b != 1:
+        raise ArithmeticError(f"a(4) + b(4) = {a + b} != 1 at site ({m},{n})")
+    return _fr(-2 * c), _fr(2 * b)

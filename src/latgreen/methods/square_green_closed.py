@@ -78,7 +78,9 @@ def _cut_values(x: Fraction) -> tuple[acb, acb]:
 def _closed(er: Fraction, ei: Fraction, prec: int) -> tuple[acb, acb]:
     old = ctx.prec
     try:
-        ctx.prec = prec + 20
+        # on the cut, K(1 - x^2/16) needs the bits of x^2's denominator to see that its
+        # argument is not 1 when x is tiny (E = 10^-30 is exact)
+        ctx.prec = prec + 20 + (2 * er.denominator.bit_length() if ei == 0 else 0)
         if ei == 0 and abs(er) < 4:
             g00, g11 = _cut_values(abs(er))
             if er < 0:  # G(-x+i0; m,n) = -(-1)^(m+n) conj G(x+i0; m,n), m+n even here
@@ -110,8 +112,8 @@ def dos_ball(x: Fraction, prec: int) -> arb:
     """rho(x) = K(1 - x^2/16) / (2 pi^2) for 0 < |x| < 4 (from the cut formula above)."""
     old = ctx.prec
     try:
-        ctx.prec = prec + 20
-        v = acb(1 - arb_q(x * x / 16)).elliptic_k().real / (2 * arb.pi() ** 2)
+        ctx.prec = prec + 20 + 2 * x.denominator.bit_length()  # see _closed
+        v = acb(arb_q(1 - x * x / 16)).elliptic_k().real / (2 * arb.pi() ** 2)
         return +v
     finally:
         ctx.prec = old
