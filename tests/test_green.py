@@ -77,6 +77,7 @@ def test_energy_forms(text, want):
     ("1.5-0.5j", "negative imaginary"), ("-0.5j", "negative imaginary"),
     ("abc", "cannot parse"), ("1.5+0.5", "cannot parse"), ("", "cannot parse"),
     ("1/0", "cannot parse"), ("1.5j+2", "cannot parse"), ("--1", "cannot parse"),
+    ("1e999999999", "too long"), ("1+1e-999999j", "too long"), ("1" * 500, "too long"),
 ])
 def test_bad_energies(text, words):
     with pytest.raises(InputError, match=words):

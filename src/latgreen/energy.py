@@ -23,6 +23,8 @@ from fractions import Fraction
 
 from .errors import InputError
 
+MAX_ENERGY_CHARS = 400
+MAX_EXPONENT = 300
 _DEC = r"(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?"
 _NUM = rf"(?:\d+/\d+|{_DEC})"
 _RE_REAL = re.compile(rf"^([+-]?{_NUM})$")
@@ -128,6 +130,12 @@ def parse_energy(text: object) -> Energy:
     s = "".join(text.split())
     if len(s) >= 2 and s[0] == "(" and s[-1] == ")":
         s = s[1:-1]
+    # an exponent such as 1e999999999 would build a huge integer before any check
+    if len(s) > MAX_ENERGY_CHARS or any(abs(int(x)) > MAX_EXPONENT
+                                        for x in re.findall(r"[eE]([+-]?\d+)", s)):
+        raise InputError(f"energy {text[:40]!r}{'...' if len(text) > 40 else ''} is too long: "
+                         f"at most {MAX_ENERGY_CHARS} characters and exponents up to "
+                         f"+-{MAX_EXPONENT}")
     try:
         if mt := _RE_REAL.match(s):
             er, ei = Fraction(mt.group(1)), Fraction(0)
