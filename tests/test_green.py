@@ -470,3 +470,15 @@ def test_worker_check_job_matches_the_api():
     v = sg.evaluate(sg.green_form(E, 2, 1), E, (2, 1), 15)
     assert abs(re_ - v.center[0]) < Fraction(1, 10**16) * abs(v.center[0])
     assert abs(im - v.center[1]) < Fraction(1, 10**16) * abs(v.center[1])
+
+
+def test_symmetry_zero_check_works_below_float_range():
+    """Regression: the check that a symmetry-zero component of the quadrature is negligible
+    used a float64 |G|, which underflows for far sites (G ~ 1e-400); it is exact now."""
+    from latgreen.quantities.green_api import component_agreement
+
+    tiny = Fraction(1, 10**400)
+    assert component_agreement((Fraction(0), 3 * tiny), (tiny / 10**30, 3 * tiny),
+                               (True, False), 20) == 20
+    assert component_agreement((Fraction(0), 3 * tiny), (tiny, 3 * tiny),
+                               (True, False), 20) == 0

@@ -117,11 +117,11 @@ def component_agreement(centre: tuple[Fraction, Fraction], q: tuple[Fraction, Fr
                         zero: tuple[bool, bool], digits: int) -> int:
     """Digits on which both components agree; a component 0 by symmetry agrees when the
     quadrature's is below 10^-digits |G|."""
-    size = abs(complex(float(q[0]), float(q[1])))
+    size2 = q[0] * q[0] + q[1] * q[1]  # exact: G can be far below float64's range
     out = digits
     for c, x, z in zip(centre, q, zero, strict=True):
         if z:
-            if abs(x) > Fraction(size) / 10**digits:
+            if x * x * 100**digits > size2:
                 return 0
         else:
             out = min(out, agreement_digits(c, x, digits))
