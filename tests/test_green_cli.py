@@ -153,3 +153,20 @@ def test_dos_table(tmp_path):
     assert desc["latgreen"]["energy_grid"] == ["-4.5", "-1.5", "1.5", "4.5"]
     frictionless = pytest.importorskip("frictionless")
     assert frictionless.Package(str(out / "datapackage.json")).validate().valid
+
+
+def test_green_table_bytes_do_not_depend_on_workers(tmp_path, monkeypatch):
+    """A pool of worker processes (forced for a tiny table) rebuilds the provider at the
+    energy and gives the same data bytes as one process."""
+    from latgreen.tables import build
+    from latgreen.tables.make import TableRequest, make_table
+
+    monkeypatch.setattr(build, "PARALLEL_MIN_SITES", 0)
+    outs = []
+    for w in (1, 2):
+        out = tmp_path / f"w{w}"
+        make_table(TableRequest("square", "green", 1, 12, out, progress=False, workers=w,
+                                energy="2.5"))
+        outs.append(out)
+    for name in ("values.csv", "values.json"):
+        assert (outs[0] / name).read_bytes() == (outs[1] / name).read_bytes()
