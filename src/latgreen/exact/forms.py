@@ -31,10 +31,31 @@ class Constant:
             rest = self.name[2:]
             return f"{p}/{rest}" if q == 1 else f"{p}/({q}*{rest})"
         head = "" if p == 1 else f"{p}*"
-        if "/" in self.name:  # "sqrt(3)/pi": 4*sqrt(3)/(3*pi), not 4*sqrt(3)/pi/3
-            top, bottom = self.name.split("/", 1)
+        cut = _top_level_slash(self.name)
+        if cut is not None:  # "sqrt(3)/pi": 4*sqrt(3)/(3*pi), not 4*sqrt(3)/pi/3
+            top, bottom = self.name[:cut], self.name[cut + 1:]
+            if _top_level_slash(bottom) is not None or any(
+                    ch in bottom for ch in "+-") and not bottom.startswith("("):
+                bottom = f"({bottom})"
             return f"{head}{top}/{bottom}" if q == 1 else f"{head}{top}/({q}*{bottom})"
         return f"{head}{self.name}" if q == 1 else f"{head}{self.name}/{q}"
+
+
+def _top_level_slash(text: str) -> int | None:
+    """Index of the first "/" outside parentheses (None if there is none).
+
+    >>> _top_level_slash("elliptic_k(39/64)/pi**2"), _top_level_slash("f(1/2)")
+    (17, None)
+    """
+    depth = 0
+    for i, ch in enumerate(text):
+        if ch == "(":
+            depth += 1
+        elif ch == ")":
+            depth -= 1
+        elif ch == "/" and depth == 0:
+            return i
+    return None
 
 
 ONE = Constant("1", lambda: flint.arb(1))
