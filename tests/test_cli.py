@@ -64,6 +64,36 @@ def test_table_writes_the_three_files(tmp_path):
 def test_lattices_lists_square():
     p = run_cli("lattices")
     assert p.returncode == 0 and "square" in p.stdout
+    assert "triangular" in p.stdout and "honeycomb" in p.stdout and "m, n, s" in p.stdout
+
+
+def test_triangular_resistance_value_and_exact():
+    # 10 sqrt3/pi - 5: Atkinson & van Steenwijk, Am. J. Phys. 67, 486 (1999), p. 489, in our
+    # 60-degree coordinates; (-3, 1) is an image of (2, 1)
+    p = run_cli("resistance", "triangular", "-3", "1", "--digits", "20")
+    assert p.returncode == 0 and p.stdout == "0.51328895421792049511\n", p.stderr
+    p = run_cli("resistance", "triangular", "2", "1", "--exact")
+    assert p.returncode == 0 and p.stdout == "10*sqrt(3)/pi - 5\n"
+
+
+def test_honeycomb_resistance_json():
+    # second neighbour A(1,0): R = 1 (Markowsky & Palacios, arXiv:1602.06002)
+    p = run_cli("resistance", "honeycomb", "1", "0", "0", "--digits", "25", "--json")
+    assert p.returncode == 0, p.stderr
+    d = json.loads(p.stdout)
+    assert d["exact"] == "1" and d["value"] == "1." + "0" * 24
+    assert d["methods"] == ["recurrence", "quadrature"] and d["agreement_digits"] == 25
+
+
+def test_honeycomb_table_has_three_coordinate_columns(tmp_path):
+    out = tmp_path / "hc"
+    p = run_cli("table", "honeycomb", "--extent", "3", "--digits", "20", "--out", str(out),
+                "--quiet")
+    assert p.returncode == 0, p.stderr
+    lines = (out / "values.csv").read_text().splitlines()
+    # 2 + 5 + 7 + 10 canonical sites for m = 0..3 (2m + 2 + (m + 1) // 2 per column)
+    assert lines[0].startswith("m,n,s,value,") and len(lines) == 1 + 24
+    assert lines[2].startswith("0,0,1,0.66666666666666666667,2/3,")  # 2/z: common practice
 
 
 def _one_line_error(p):
@@ -76,7 +106,17 @@ def _one_line_error(p):
 
 @pytest.mark.parametrize(("args", "needle"), [
     (("resistance", "hexagonal", "1", "0"), "unknown lattice"),
-    (("resistance", "triangular", "1", "0"), "not implemented yet"),
+    (("resistance", "sc", "1", "0", "0"), "not implemented yet"),
+    (("resistance", "triangular", "1"), "2 coordinates"),
+    (("resistance", "triangular", "1", "0", "1"), "2 coordinates"),
+    (("resistance", "triangular", "x", "0"), "must be an integer"),
+    (("resistance", "honeycomb", "1", "0"), "3 coordinates"),
+    (("resistance", "honeycomb", "1", "0", "2"), "must be 0 (A site) or 1 (B site)"),
+    (("resistance", "honeycomb", "1", "0", "-1"), "must be 0 (A site) or 1 (B site)"),
+    (("resistance", "honeycomb", "1", "0.5", "1"), "must be an integer"),
+    (("resistance", "triangular", "900", "1", "--digits", "60"), "at most --digits"),
+    (("table", "honeycomb", "--extent", "-1", "--out", "x"), "extent must be >= 0"),
+    (("table", "triangular", "--extent", "100000", "--out", "x"), "would need about"),
     (("resistance", "square", "1"), "2 coordinates"),
     (("resistance", "square", "1", "0", "0"), "2 coordinates"),
     (("resistance", "square", "1.5", "0"), "must be an integer"),
@@ -88,8 +128,10 @@ def _one_line_error(p):
     (("resistance", "square", "1", "0", "--quantity", "x"), "unrecognized"),
     (("table", "square", "--extent", "-1", "--out", "x"), "extent must be >= 0"),
     (("table", "square", "--extent", "200000", "--out", "x"), "would need about"),
-    (("table", "square", "--extent", "3", "--quantity", "green", "--out", "x"),
+    (("table", "square", "--extent", "3", "--quantity", "magnetisation", "--out", "x"),
      "unknown quantity"),
+    (("table", "square", "--extent", "3", "--quantity", "green", "--out", "x"),
+     "needs an energy"),
     (("check", "square", "--extent", "-2"), "extent must be >= 0"),
     (("table", "square", "--extent", "3", "--out", "x", "--workers", "0"), "at least 1"),
     (("resistance", "square", "9000", "0", "--digits", "60"), "at most --digits"),

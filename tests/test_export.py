@@ -48,6 +48,15 @@ def test_frictionless_validates_the_package(table):
     assert report.valid, report.flatten(["type", "note"])
 
 
+def test_frictionless_validates_a_honeycomb_package(tmp_path):
+    # three coordinate columns (m, n, s) as the primary key
+    out = tmp_path / "hc"
+    d = make_table(TableRequest("honeycomb", "resistance", 5, 25, out, progress=False))
+    assert d["resources"][0]["schema"]["primaryKey"] == ["m", "n", "s"]
+    report = frictionless.Package(str(out / "datapackage.json")).validate()
+    assert report.valid, report.flatten(["type", "note"])
+
+
 def test_tampered_file_is_detected(table, tmp_path):
     copy = tmp_path / "copy"
     copy.mkdir()

@@ -101,3 +101,16 @@ def test_logarithmic_growth():
     a = latgreen.resistance("square", (200, 0), digits=20).mpf
     b = latgreen.resistance("square", (400, 0), digits=20).mpf
     assert abs((b - a) - mpmath.ln2 / mpmath.pi) < 1e-5
+
+
+@pytest.mark.parametrize("name", ["1/pi", "sqrt(3)/pi", "elliptic_k(39/64)/pi**2",
+                                  "gamma(1/4)**4/(4*pi**3)"])
+@pytest.mark.parametrize("c", [Fraction(1), Fraction(-1, 2), Fraction(46, 3)])
+def test_printed_terms_mean_what_they_say(name, c):
+    # regression: splitting a constant's name at its first "/" printed
+    # elliptic_k(39/(2*64)/pi**2) for elliptic_k(39/64)/pi**2 / 2 (a different number)
+    from latgreen.exact.forms import Constant, ExactForm
+
+    text = str(ExactForm((c,), (Constant(name, lambda: None),)))
+    want = sympy.Rational(c.numerator, c.denominator) * sympy.sympify(name)
+    assert sympy.simplify(sympy.sympify(text) - want) == 0

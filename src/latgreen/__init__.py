@@ -16,7 +16,7 @@ from typing import Any
 from ._version import __version__
 from .errors import InputError, LatgreenError, PrecisionError, VerificationError
 
-_LAZY = {"MAX_DIGITS", "Result", "resistance"}
+_LAZY = {"MAX_DIGITS", "GreenResult", "Result", "dos", "green", "local_dos", "resistance"}
 
 
 def __getattr__(name: str) -> Any:
@@ -27,5 +27,6 @@ def __getattr__(name: str) -> Any:
     raise AttributeError(f"module 'latgreen' has no attribute {name!r}")
 
 
-__all__ = ["MAX_DIGITS", "InputError", "LatgreenError", "PrecisionError", "Result",
-           "VerificationError", "__version__", "resistance"]
+__all__ = ["MAX_DIGITS", "GreenResult", "InputError", "LatgreenError", "PrecisionError",
+           "Result", "VerificationError", "__version__", "dos", "green", "local_dos",
+           "resistance"]

@@ -20,8 +20,14 @@ from tabulate import tabulate
 from . import __version__
 from .errors import InputError, LatgreenError, PrecisionError, VerificationError
 from .lattices import LATTICES
-from .quantities import MAX_DIGITS, QUANTITIES, resistance
-from .tables.make import TableRequest, build_catalogue, check_region, make_table
+from .quantities import MAX_DIGITS, QUANTITIES, dos, green, resistance
+from .tables.make import (
+    TableRequest,
+    build_catalogue,
+    check_region,
+    make_dos_table,
+    make_table,
+)
 
 
 class _Parser(argparse.ArgumentParser):
@@ -69,11 +75,34 @@ def _parser() -> argparse.ArgumentParser:
     g.add_argument("--exact", action="store_true", help="print the exact form instead")
     g.add_argument("--json", action="store_true", help="print one JSON object")
 
+    gr = sub.add_parser("green", help="Green's function G(E; site) = <0|(E - H)^-1|site>")
+    gr.add_argument("lattice", help=f"one of: {', '.join(sorted(LATTICES))}")
+    gr.add_argument("coords", nargs="+", metavar="COORD", help="site coordinates (integers)")
+    gr.add_argument("--energy", required=True, metavar="E",
+                    help="exact energy: '4.5', '9/2', '1.5+0.5j', '0.5j' (E + i0 on the band)")
+    gr.add_argument("--digits", type=_digits, default=50,
+                    help=f"significant digits of each component, 1..{MAX_DIGITS} (default 50)")
+    g = gr.add_mutually_exclusive_group()
+    g.add_argument("--exact", action="store_true",
+                   help="print the exact form a*G00 + b*G11 + c instead")
+    g.add_argument("--json", action="store_true", help="print one JSON object")
+
+    d = sub.add_parser("dos", help="density of states per site at a real energy")
+    d.add_argument("lattice", help=f"one of: {', '.join(sorted(LATTICES))}")
+    d.add_argument("--energy", required=True, metavar="E", help="real exact energy, e.g. 2.5")
+    d.add_argument("--digits", type=_digits, default=50,
+                   help=f"significant digits, 1..{MAX_DIGITS} (default 50)")
+    d.add_argument("--json", action="store_true", help="print one JSON object")
+
     t = sub.add_parser("table", help="compute, cross-check and write one table")
     t.add_argument("lattice")
     t.add_argument("--quantity", default="resistance", help=f"one of: {', '.join(QUANTITIES)}")
-    t.add_argument("--extent", type=_extent, required=True,
-                   help="largest coordinate of the canonical region")
+    t.add_argument("--extent", type=_extent, default=None,
+                   help="largest coordinate of the canonical region (not for dos)")
+    t.add_argument("--energy", metavar="E", default=None,
+                   help="the energy of a green table, e.g. 9/2 or 1.5+0.5j")
+    t.add_argument("--energies", metavar="A:B:COUNT", default=None,
+                   help="the energy grid of a dos table: COUNT points from A to B")
     t.add_argument("--digits", type=_digits, default=50)
     t.add_argument("--out", type=Path, required=True, help="output directory (created)")
     t.add_argument("--force", action="store_true", help="replace a non-empty output directory")
@@ -147,10 +176,37 @@ def _cmd_resistance(a: argparse.Namespace) -> int:
     return 0
 
 
+def _cmd_green(a: argparse.Namespace) -> int:
+    res = green(a.lattice, a.coords, energy=a.energy, digits=a.digits)
+    if a.json:
+        print(json.dumps(res.to_json()))
+    elif a.exact:
+        print(res.exact)
+    else:
+        print(res.value)
+    return 0
+
+
+def _cmd_dos(a: argparse.Namespace) -> int:
+    res = dos(a.lattice, energy=a.energy, digits=a.digits)
+    print(json.dumps(res.to_json()) if a.json else res.value)
+    return 0
+
+
 def _cmd_table(a: argparse.Namespace) -> int:
-    d = make_table(TableRequest(a.lattice, a.quantity, a.extent, a.digits, a.out, a.force,
-                                a.verify, not a.no_exact, not a.quiet, a.workers, a.resume,
-                                a.scheduler))
+    if a.quantity == "dos":
+        if a.energies is None or a.extent is not None or a.energy is not None:
+            raise InputError("a dos table takes --energies A:B:COUNT (and no --extent or "
+                             "--energy)")
+        d = make_dos_table(a.lattice, a.energies, a.digits, a.out, a.force, not a.quiet)
+    else:
+        if a.extent is None:
+            raise InputError(f"a {a.quantity} table needs --extent N")
+        if a.energies is not None:
+            raise InputError("--energies is for dos tables; a green table takes --energy E")
+        d = make_table(TableRequest(a.lattice, a.quantity, a.extent, a.digits, a.out,
+                                    a.force, a.verify, not a.no_exact, not a.quiet, a.workers,
+                                    a.resume, a.scheduler, energy=a.energy))
     cc = d["latgreen"]["cross_check"]
     print(f"{a.out}: {cc['rows']} rows, {cc['rows_checked_at_full_digits']} checked at "
           f"{a.digits} digits, minimum agreement {cc['min_agreement_digits']} digits",
@@ -261,9 +317,9 @@ def _cmd_lattices(a: argparse.Namespace) -> int:
     return 0
 
 
-COMMANDS = {"resistance": _cmd_resistance, "table": _cmd_table, "check": _cmd_check,
-            "build": _cmd_build, "audit": _cmd_audit, "verify": _cmd_verify,
-            "lattices": _cmd_lattices}
+COMMANDS = {"resistance": _cmd_resistance, "green": _cmd_green, "dos": _cmd_dos,
+            "table": _cmd_table, "check": _cmd_check, "build": _cmd_build,
+            "audit": _cmd_audit, "verify": _cmd_verify, "lattices": _cmd_lattices}
 
 
 def _notes(e: BaseException) -> None:
@@ -279,8 +335,29 @@ def _on_sigterm(signum: int, frame: object) -> None:
     raise Terminated
 
 
+def _glue_energies(argv: Sequence[str]) -> list[str]:
+    """``--energy -1.5+0.5j`` -> ``--energy=-1.5+0.5j``: argparse takes a value starting with
+    '-' that is not a plain number for an option.
+
+    >>> _glue_energies(["green", "square", "1", "0", "--energy", "-1.5+0.5j"])[-1]
+    '--energy=-1.5+0.5j'
+    """
+    out: list[str] = []
+    it = iter(argv)
+    for a in it:
+        if a in ("--energy", "--energies"):
+            nxt = next(it, None)
+            if nxt is None:
+                out.append(a)
+            else:
+                out.append(f"{a}={nxt}")
+        else:
+            out.append(a)
+    return out
+
+
 def main(argv: Sequence[str] | None = None) -> int:
-    args = _parser().parse_args(argv)
+    args = _parser().parse_args(_glue_energies(sys.argv[1:] if argv is None else argv))
     if threading.current_thread() is threading.main_thread():
         signal.signal(signal.SIGTERM, _on_sigterm)
     try:

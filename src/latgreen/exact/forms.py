@@ -31,11 +31,36 @@ class Constant:
             rest = self.name[2:]
             return f"{p}/{rest}" if q == 1 else f"{p}/({q}*{rest})"
         head = "" if p == 1 else f"{p}*"
+        cut = _top_level_slash(self.name)
+        if cut is not None:  # "sqrt(3)/pi": 4*sqrt(3)/(3*pi), not 4*sqrt(3)/pi/3
+            top, bottom = self.name[:cut], self.name[cut + 1:]
+            if _top_level_slash(bottom) is not None or any(
+                    ch in bottom for ch in "+-") and not bottom.startswith("("):
+                bottom = f"({bottom})"
+            return f"{head}{top}/{bottom}" if q == 1 else f"{head}{top}/({q}*{bottom})"
         return f"{head}{self.name}" if q == 1 else f"{head}{self.name}/{q}"
+
+
+def _top_level_slash(text: str) -> int | None:
+    """Index of the first "/" outside parentheses (None if there is none).
+
+    >>> _top_level_slash("elliptic_k(39/64)/pi**2"), _top_level_slash("f(1/2)")
+    (17, None)
+    """
+    depth = 0
+    for i, ch in enumerate(text):
+        if ch == "(":
+            depth += 1
+        elif ch == ")":
+            depth -= 1
+        elif ch == "/" and depth == 0:
+            return i
+    return None
 
 
 ONE = Constant("1", lambda: flint.arb(1))
 INV_PI = Constant("1/pi", lambda: 1 / flint.arb.pi())
+SQRT3_OVER_PI = Constant("sqrt(3)/pi", lambda: flint.arb(3).sqrt() / flint.arb.pi())
 
 
 @dataclass(frozen=True)
@@ -48,6 +73,10 @@ class ExactForm:
     >>> f = ExactForm((Fraction(-4), Fraction(46, 3)), (ONE, INV_PI))
     >>> str(f)
     '46/(3*pi) - 4'
+    >>> str(ExactForm((Fraction(-5), Fraction(10)), (ONE, SQRT3_OVER_PI)))
+    '10*sqrt(3)/pi - 5'
+    >>> str(ExactForm((Fraction(8, 3), Fraction(-4, 3)), (ONE, SQRT3_OVER_PI)))
+    '8/3 - 4*sqrt(3)/(3*pi)'
     """
 
     coeffs: tuple[Fraction, ...]

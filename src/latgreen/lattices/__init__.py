@@ -4,13 +4,17 @@ from __future__ import annotations
 
 from ..errors import InputError
 from .base import Lattice, Site
+from .honeycomb import HONEYCOMB
 from .square import SQUARE
+from .triangular import TRIANGULAR
 
-LATTICES: dict[str, Lattice] = {SQUARE.name: SQUARE}
+LATTICES: dict[str, Lattice] = {
+    lat.name: lat for lat in (SQUARE, TRIANGULAR, HONEYCOMB)
+}
 
 # Lattices the project plans (see DEVELOPERS.md); named in error messages so that a user
 # asking for one learns it is not there yet rather than that it does not exist.
-PLANNED = ("triangular", "honeycomb", "sc", "bcc", "fcc")
+PLANNED = ("sc", "bcc", "fcc")
 
 
 def get_lattice(name: str) -> Lattice:

@@ -7,25 +7,35 @@ exact form where one exists and a rigorous bound on the printed value's error.
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 from fractions import Fraction
 from typing import Any
 
 import mpmath
 
+from ..energy import Energy, parse_energy
 from ..errors import InputError, VerificationError
 from ..exact.evaluate import FixedPointEvaluator
 from ..exact.forms import ExactForm
 from ..lattices import Site, get_lattice
 from ..rounding import Rounded, agreement_digits, round_interval
 from .base import Batch, Provider
+from .honeycomb_resistance import HONEYCOMB_RESISTANCE
+from .square_green import SquareGreen
 from .square_resistance import SQUARE_RESISTANCE
+from .triangular_resistance import TRIANGULAR_RESISTANCE
 
 MAX_DIGITS = 1000
-QUANTITIES = ("resistance",)
+QUANTITIES = ("resistance", "green", "dos")
 PROVIDERS: dict[tuple[str, str], Provider] = {
     ("square", "resistance"): SQUARE_RESISTANCE,
+    ("triangular", "resistance"): TRIANGULAR_RESISTANCE,
+    ("honeycomb", "resistance"): HONEYCOMB_RESISTANCE,
+}
+# quantities with a parameter (the energy): a factory binds a provider to one energy
+PARAMETRISED: dict[tuple[str, str], Callable[[Energy], Provider]] = {
+    ("square", "green"): SquareGreen,
 }
 
 
@@ -40,10 +50,20 @@ def check_digits(digits: object) -> int:
     return digits
 
 
-def get_provider(lattice: str, quantity: str) -> Provider:
+def get_provider(lattice: str, quantity: str, energy: object = None) -> Provider:
+    """The provider of (lattice, quantity); a quantity with an energy is bound to it."""
     lat = get_lattice(lattice)
     if quantity not in QUANTITIES:
         raise InputError(f"unknown quantity {quantity!r}; available: {', '.join(QUANTITIES)}")
+    factory = PARAMETRISED.get((lat.name, quantity))
+    if factory is not None:
+        if energy is None:
+            raise InputError(f"quantity {quantity!r} needs an energy (--energy E)")
+        return factory(parse_energy(energy))
+    if energy is not None:
+        raise InputError(f"quantity {quantity!r} takes no energy")
+    if quantity == "dos":
+        raise InputError("a dos table is a grid of energies: use --energies A:B:COUNT")
     try:
         return PROVIDERS[(lat.name, quantity)]
     except KeyError:
@@ -71,6 +91,7 @@ class Result:
     methods: tuple[str, ...]
     agreement_digits: int
     notes: tuple[str, ...] = field(default=())
+    energy: str | None = None  # for quantities taken at an energy (dos, local dos)
 
     @property
     def mpf(self) -> mpmath.mpf:
@@ -92,6 +113,7 @@ class Result:
             "methods": list(self.methods),
             "agreement_digits": self.agreement_digits,
             "notes": list(self.notes),
+            **({"energy": self.energy} if self.energy is not None else {}),
         }
 
 
@@ -176,5 +198,7 @@ def _far_site(provider: Provider, c: Site, digits: int, common: dict[str, Any]) 
                          f"{min(agree, digits)} digits",))
 
 
-__all__ = ["MAX_DIGITS", "PROVIDERS", "Batch", "Provider", "Result", "check_digits",
-           "get_provider", "resistance"]
+from .green_api import GreenResult, dos, green, local_dos  # noqa: E402 - uses the above
+
+__all__ = ["MAX_DIGITS", "PROVIDERS", "Batch", "GreenResult", "Provider", "Result",
+           "check_digits", "dos", "get_provider", "green", "local_dos", "resistance"]

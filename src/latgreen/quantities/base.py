@@ -39,8 +39,9 @@ class EvaluatedBatch:
     """A batch with its values certified to the table's digits (and exact forms if asked)."""
 
     sites: list[Site]
-    rounded: RoundedColumn
+    rounded: RoundedColumn  # the value, or its real part for a complex quantity
     forms: list[ExactForm] | None
+    imag: RoundedColumn | None = None  # the imaginary part of a complex quantity
 
 
 class Provider:
@@ -49,6 +50,8 @@ class Provider:
     lattice: Lattice
     quantity: str
     exact_limit: int  # largest extent for which exact forms are produced on request
+    complex_valued = False  # rows carry a real and an imaginary part
+    energy: object = None  # the energy a parametrised provider is bound to (an Energy)
 
     def batches(self, extent: int) -> Iterator[Batch]:
         raise NotImplementedError

@@ -98,9 +98,10 @@ def rows(provider: Provider, extent: int, digits: int, verify: str, with_exact: 
     """Yield the verified rows of batches ``start`` <= index < ``stop``, in site order, one
     block per batch, computed in this process."""
     name, quantity = provider.lattice.name, provider.quantity
+    energy = None if provider.energy is None else str(provider.energy)
     for bi, eb in provider.evaluated_batches(extent, digits, with_exact, start, stop):
         full = verify == "full" or sampled(bi, extent)
-        checks = check_job((name, quantity, eb.sites, digits, full))
+        checks = check_job((name, quantity, energy, eb.sites, digits, full))
         yield _block(provider, eb, checks, full, digits, with_exact)
         if on_batch is not None:
             on_batch(len(eb.sites))
@@ -155,9 +156,11 @@ def run_units(provider: Provider, extent: int, digits: int, verify: str, with_ex
     if not todo:
         return
     name, quantity = provider.lattice.name, provider.quantity
+    energy = None if provider.energy is None else str(provider.energy)
 
     def args(i: int) -> tuple[Any, ...]:
-        return (name, quantity, extent, digits, verify, with_exact, units[i][0], units[i][1])
+        return (name, quantity, energy, extent, digits, verify, with_exact, units[i][0],
+                units[i][1])
 
     if scheduler is not None:
         _run_dask(scheduler, [(i, args(i)) for i in todo], on_unit, on_rows)
@@ -223,11 +226,12 @@ def _indexed_rows(provider: Provider, extent: int, digits: int, verify: str,
                   with_exact: bool, start: int, stop: int, want: set[int],
                   unit_of: dict[int, int]) -> Iterator[tuple[int, RowBlock]]:
     name, quantity = provider.lattice.name, provider.quantity
+    energy = None if provider.energy is None else str(provider.energy)
     for bi, eb in provider.evaluated_batches(extent, digits, with_exact, start, stop):
         if unit_of[bi] not in want:
             continue
         full = verify == "full" or sampled(bi, extent)
-        checks = check_job((name, quantity, eb.sites, digits, full))
+        checks = check_job((name, quantity, energy, eb.sites, digits, full))
         yield bi, _block(provider, eb, checks, full, digits, with_exact)
 
 
@@ -263,12 +267,46 @@ def _drain(q: Any, on_rows: Callable[[int], None] | None) -> None:
             on_rows(k)
 
 
+def _complex_block(provider: Provider, eb: Any, checks: Sequence[Any], digits: int,
+                   with_exact: bool) -> RowBlock:
+    """Rows of a complex quantity: each component confirmed by the full-precision quadrature
+    (``checks`` holds (re, im) pairs as Fractions); a component 0 by symmetry must have a
+    quadrature value below 10^-digits |G|."""
+    from ..quantities.green_api import component_agreement
+
+    re_c, im_c = eb.rounded, eb.imag
+    agree = []
+    for k in range(len(eb.sites)):
+        centre = (re_c.center(k), im_c.center(k))
+        zero = (re_c.values[k] == "0", im_c.values[k] == "0")
+        agree.append(component_agreement(centre, checks[k], zero, digits))
+    bad = [k for k, g in enumerate(agree) if g < digits]
+    if bad:
+        k = bad[0]
+        raise VerificationError(
+            f"{provider.lattice.name} {provider.quantity} at E = {provider.energy}, site "
+            f"{eb.sites[k]}: recurrence and quadrature agree to only {agree[k]} digits "
+            f"(need {digits})")
+    forms = eb.forms if with_exact and eb.forms is not None else None
+    n = len(eb.sites)
+    return RowBlock(
+        sites=eb.sites, values=re_c.values,
+        exacts=[str(f) for f in forms] if forms is not None else [""] * n,
+        hows=[f.how for f in forms] if forms is not None else [""] * n,
+        bounds=re_c.bounds, methods=["recurrence;quadrature"] * n, agreements=agree,
+        imags=im_c.values, imag_bounds=im_c.bounds)
+
+
 def _block(provider: Provider, eb: Any, checks: Sequence[Any], full: bool, digits: int,
            with_exact: bool) -> RowBlock:
     method = "quadrature" if full else "quadrature-float64"
     need = digits if full else min(FAST_MIN_AGREEMENT, digits)
     rc = eb.rounded
     origin = [k for k, site in enumerate(eb.sites) if not any(site)]
+    if getattr(eb, "imag", None) is not None:
+        return _complex_block(provider, eb, checks, digits, with_exact)
+    if eb.imag is not None:
+        return _complex_block(provider, eb, checks, digits, with_exact)
     if full:
         agree = [agreement_digits(rc.center(k), checks[k] if isinstance(checks[k], Fraction)
                                   else Fraction(checks[k]), digits)

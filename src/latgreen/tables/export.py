@@ -24,7 +24,7 @@ from typing import Any
 from .._version import __version__
 from ..errors import InputError
 from ..lattices import Lattice
-from .render import Chunk
+from .render import UNSAFE, Chunk
 
 CONVENTIONS = {
     "hopping": "amplitude +1 between nearest neighbours; G(E; r) = <0|(E - H)^-1|r>",
@@ -153,10 +153,41 @@ def _replace_dir(tmp: Path, out: Path) -> None:
     os.rename(tmp, out)
 
 
-def _fields(lattice: Lattice) -> list[dict[str, Any]]:
+GREEN_CONVENTIONS = {
+    "green": "G(E; r) = <0|(E - H)^-1|r>; for a real energy inside the band the retarded limit "
+             "E + i0 (Im G(E; 0) <= 0)",
+    "energy": "exact: the decimal or fraction given, never a binary float",
+    "complex_values": "value_re and value_im are each correctly rounded to the table's "
+                      "significant digits of their own; a component that is exactly 0 by "
+                      "symmetry is 0 with error bound 0",
+    "exact": "a*G00 + b*G11 + c with G00 = G(E;0,0), G11 = G(E;1,1) and Gaussian-rational "
+             "a, b, c (I is the imaginary unit)",
+}
+
+
+def _fields(lattice: Lattice, complex_valued: bool = False) -> list[dict[str, Any]]:
     coords = [{"name": c, "type": "integer",
                "description": f"site coordinate {c} ({lattice.description})"}
               for c in lattice.coordinate_names]
+    if complex_valued:
+        comp = "decimal {} part, correctly rounded to the table's significant digits of its own"
+        return coords + [
+            {"name": "value_re", "type": "string", "description": comp.format("real")},
+            {"name": "value_im", "type": "string", "description": comp.format("imaginary")},
+            {"name": "exact", "type": "string",
+             "description": "exact form a*G00 + b*G11 + c in sympy syntax"},
+            {"name": "exact_how", "type": "string",
+             "description": "derived (proven recurrence)"},
+            {"name": "error_bound_re", "type": "string",
+             "description": "bound on |value_re - Re G| (half a unit in its last place)"},
+            {"name": "error_bound_im", "type": "string",
+             "description": "bound on |value_im - Im G| (half a unit in its last place)"},
+            {"name": "methods", "type": "string",
+             "description": "independent methods that confirmed the value, separated by ';'"},
+            {"name": "agreement_digits", "type": "integer",
+             "description": "significant digits on which those methods agree (each "
+                            "component)"},
+        ]
     return coords + [
         {"name": "value", "type": "string",
          "description": "decimal value, correctly rounded to the table's significant digits "
@@ -176,7 +207,8 @@ def _fields(lattice: Lattice) -> list[dict[str, Any]]:
 
 def _write_files(tmp: Path, lattice: Lattice, quantity: str, chunks: Iterable[Chunk],
                  meta: dict[str, Any]) -> dict[str, Any]:
-    names = [f["name"] for f in _fields(lattice)]
+    cplx = bool(meta.get("complex"))
+    names = [f["name"] for f in _fields(lattice, cplx)]
     csv_sink = _Hashing(tmp / "values.csv")
     json_sink = _Hashing(tmp / "values.json")
     csv_sink.write_text(",".join(names) + "\n")
@@ -185,6 +217,8 @@ def _write_files(tmp: Path, lattice: Lattice, quantity: str, chunks: Iterable[Ch
     head = {"lattice": lattice.name, "quantity": quantity, "digits": meta["digits"],
             "extent": meta["extent"], "coordinates": list(lattice.coordinate_names),
             "fields": names}
+    if "energy" in meta:
+        head = {**head, "energy": str(meta["energy"])}
     json_sink.write_text(json.dumps(head, ensure_ascii=False)[:-1] + ', "rows": [')
     count = 0
     min_agree: int | None = None
@@ -219,20 +253,25 @@ def _write_files(tmp: Path, lattice: Lattice, quantity: str, chunks: Iterable[Ch
     }
 
 
-def table_id(lattice: str, quantity: str) -> str:
-    return f"{lattice}-{quantity}"
+def table_id(lattice: str, quantity: str, energy: Any = None) -> str:
+    """``square-resistance``; a table at an energy carries it: ``square-green-e4.5``,
+    ``square-green-e1.5p0.5j`` (see :meth:`latgreen.energy.Energy.slug`)."""
+    base = f"{lattice}-{quantity}"
+    return base if energy is None else f"{base}-{energy.slug()}"
 
 
 def _descriptor(lattice: Lattice, quantity: str, meta: dict[str, Any], summary: dict[str, Any],
                 started: str, ended: str) -> dict[str, Any]:
     csv_hash, csv_bytes = summary["files"]["values.csv"]
     json_hash, json_bytes = summary["files"]["values.json"]
-    tid = table_id(lattice.name, quantity)
-    return {
+    energy = meta.get("energy")
+    tid = table_id(lattice.name, quantity, energy)
+    at = "" if energy is None else f" at E = {energy}"
+    desc: dict[str, Any] = {
         "$schema": "https://datapackage.org/profiles/2.0/datapackage.json",
         "name": tid,
-        "title": f"{quantity} of the infinite {lattice.name} lattice, extent {meta['extent']}, "
-                 f"{meta['digits']} digits",
+        "title": f"{quantity} of the infinite {lattice.name} lattice{at}, extent "
+                 f"{meta['extent']}, {meta['digits']} digits",
         "description": "Generated by latgreen; never edit by hand. " + CONVENTIONS["caveat"],
         "version": meta.get("version", "1"),
         "created": ended,
@@ -253,7 +292,7 @@ def _descriptor(lattice: Lattice, quantity: str, meta: dict[str, Any], summary: 
                             "delimiter": ",", "lineTerminator": "\n", "header": True},
                 "schema": {
                     "$schema": "https://datapackage.org/profiles/2.0/tableschema.json",
-                    "fields": _fields(lattice),
+                    "fields": _fields(lattice, bool(meta.get("complex"))),
                     "primaryKey": list(lattice.coordinate_names),
                 },
             },
@@ -299,5 +338,128 @@ def _descriptor(lattice: Lattice, quantity: str, meta: dict[str, Any], summary: 
             },
         },
     }
+    if energy is not None:
+        # the resistance descriptors stay as they were: energy keys only where there is one
+        e = {"energy": str(energy), "energy_re": str(energy.re), "energy_im": str(energy.im)}
+        desc["prov:wasGeneratedBy"]["prov:used"].update(e)
+        block = desc["latgreen"]
+        desc["latgreen"] = {**{k: block[k] for k in ("table_id", "lattice", "quantity")}, **e,
+                            **{k: v for k, v in block.items()
+                               if k not in ("table_id", "lattice", "quantity")}}
+        desc["latgreen"]["conventions"] = {**CONVENTIONS, **GREEN_CONVENTIONS}
+    return desc
 
 
+
+
+DOS_FIELDS = [
+    {"name": "energy", "type": "string",
+     "description": "exact real energy (terminating decimal, or p/q); E + i0"},
+    {"name": "value", "type": "string",
+     "description": "density of states per site, correctly rounded to the table's significant "
+                    "digits (0 outside the band)"},
+    {"name": "exact", "type": "string",
+     "description": "closed form K(1 - E^2/16)/(2 pi^2) in sympy syntax (elliptic_k of "
+                    "parameter m), 0 outside the band"},
+    {"name": "error_bound", "type": "string",
+     "description": "bound on |value - true value| (half a unit in the last place)"},
+    {"name": "methods", "type": "string",
+     "description": "independent methods that confirmed the value, separated by ';'"},
+    {"name": "agreement_digits", "type": "integer",
+     "description": "significant digits on which those methods agree"},
+]
+
+
+def write_energy_table(out: Path, lattice: Lattice, quantity: str,
+                       rows: Iterable[tuple[str, str, str, str, str, int]],
+                       meta: dict[str, Any], force: bool = False) -> dict[str, Any]:
+    """A table over an energy grid (one row per energy, in grid order): the same files,
+    atomicity and descriptor layout as a table over sites."""
+    check_output_dir(out, force)
+    parent = out.resolve().parent
+    try:
+        parent.mkdir(parents=True, exist_ok=True)
+        tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.tmp-", dir=parent))
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(tmp, 0o777 & ~umask)
+    except OSError as e:
+        raise InputError(f"cannot write to {parent}: {e.strerror}") from None
+    try:
+        started = _utc_now()
+        names = [f["name"] for f in DOS_FIELDS]
+        csv_sink, json_sink = _Hashing(tmp / "values.csv"), _Hashing(tmp / "values.json")
+        count, min_agree = 0, None
+        try:
+            csv_sink.write_text(",".join(names) + "\n")
+            head = {"lattice": lattice.name, "quantity": quantity, "digits": meta["digits"],
+                    "energies": meta["energies"], "fields": names}
+            json_sink.write_text(json.dumps(head)[:-1] + ', "rows": [')
+            for r in rows:
+                text = "".join(map(str, r))
+                if not text.isascii() or UNSAFE.search(text):
+                    raise AssertionError(f"unexpected character in the row at E = {r[0]}")
+                csv_sink.write_text(",".join(map(str, r)) + "\n")
+                json_sink.write_text(("\n" if count == 0 else ",\n") + "["
+                                     + ",".join(f'"{x}"' for x in r[:5]) + f",{r[5]}]")
+                count += 1
+                min_agree = r[5] if min_agree is None else min(min_agree, r[5])
+            json_sink.write_text("\n]}\n")
+        finally:
+            csv_sink.close()
+            json_sink.close()
+        ended = _utc_now()
+        tid = f"{lattice.name}-{quantity}"
+        desc: dict[str, Any] = {
+            "$schema": "https://datapackage.org/profiles/2.0/datapackage.json",
+            "name": tid,
+            "title": f"{quantity} of the infinite {lattice.name} lattice at {count} energies "
+                     f"({meta['energies']}), {meta['digits']} digits",
+            "description": "Generated by latgreen; never edit by hand. " + CONVENTIONS["caveat"],
+            "version": "1",
+            "created": ended,
+            "licenses": [{"name": "CC0-1.0",
+                          "path": "https://creativecommons.org/publicdomain/zero/1.0/",
+                          "title": "CC0 1.0"}],
+            "resources": [
+                {"name": "values", "path": "values.csv", "type": "table", "format": "csv",
+                 "mediatype": "text/csv", "encoding": "utf-8", "bytes": csv_sink.n,
+                 "hash": f"sha256:{csv_sink.h.hexdigest()}",
+                 "dialect": {"$schema": "https://datapackage.org/profiles/2.0/tabledialect.json",
+                             "delimiter": ",", "lineTerminator": "\n", "header": True},
+                 "schema": {"$schema": "https://datapackage.org/profiles/2.0/tableschema.json",
+                            "fields": DOS_FIELDS, "primaryKey": ["energy"]}},
+                {"name": "values-json", "path": "values.json", "type": "json",
+                 "format": "json", "mediatype": "application/json", "encoding": "utf-8",
+                 "bytes": json_sink.n, "hash": f"sha256:{json_sink.h.hexdigest()}"},
+            ],
+            "prov:wasGeneratedBy": {
+                "prov:type": "latgreen table build",
+                "prov:startedAtTime": started,
+                "prov:endedAtTime": ended,
+                "prov:wasAssociatedWith": {"prov:type": "prov:SoftwareAgent",
+                                           "name": "latgreen", "version": __version__,
+                                           "source_revision": _source_revision()},
+                "prov:used": {"lattice": lattice.name, "quantity": quantity,
+                              "energies": meta["energies"], "digits": meta["digits"]},
+            },
+            "latgreen": {
+                "table_id": tid, "lattice": lattice.name, "quantity": quantity,
+                "energies": meta["energies"], "energy_grid": meta["grid"],
+                "digits": meta["digits"], "methods": meta["methods"],
+                "conventions": {**CONVENTIONS, **GREEN_CONVENTIONS,
+                                "dos": "rho(E) = -Im G(E + i0; 0, 0)/pi, per site, "
+                                       "normalised to 1 over the band"},
+                "libraries": _library_versions(),
+                "cross_check": {"rows": count, "rows_checked_at_full_digits": count,
+                                "min_agreement_digits": min_agree},
+            },
+        }
+        with open(tmp / "datapackage.json", "w", encoding="utf-8", newline="\n") as f:
+            json.dump(desc, f, indent=2, ensure_ascii=False)
+            f.write("\n")
+        _replace_dir(tmp, out)
+    except BaseException:
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise
+    return desc

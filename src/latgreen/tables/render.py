@@ -10,7 +10,7 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 
-_UNSAFE = re.compile(r'[,"\\\n\r]')
+UNSAFE = re.compile(r'[,"\\\n\r]')
 
 
 @dataclass
@@ -25,6 +25,8 @@ class RowBlock:
     bounds: list[str]
     methods: list[str]
     agreements: list[int]
+    imags: list[str] | None = None  # complex quantities: values holds the real parts
+    imag_bounds: list[str] | None = None
 
     def __len__(self) -> int:
         return len(self.sites)
@@ -71,15 +73,25 @@ def render(blk: RowBlock) -> Chunk:
     if any(a >= b for a, b in zip(sites, sites[1:], strict=False)):
         raise AssertionError(f"rows out of order near {sites[0]}")
     blob = "".join(blk.values) + "".join(blk.exacts) + "".join(blk.hows) + "".join(
-        blk.bounds) + "".join(blk.methods)
-    if not blob.isascii() or _UNSAFE.search(blob):
+        blk.bounds) + "".join(blk.methods) + "".join(blk.imags or ()) + "".join(
+        blk.imag_bounds or ())
+    if not blob.isascii() or UNSAFE.search(blob):
         raise AssertionError(f"unexpected character in the rows near {sites[0]}")
     coords = [",".join(map(str, st)) for st in sites]
-    fields = list(zip(coords, blk.values, blk.exacts, blk.hows, blk.bounds, blk.methods,
-                      blk.agreements, strict=True))
-    csv = "".join(f"{c},{v},{x},{h},{e},{mt},{a}\n" for c, v, x, h, e, mt, a in fields)
-    js = "".join(f',\n[{c},"{v}","{x}","{h}","{e}","{mt}",{a}]'
-                 for c, v, x, h, e, mt, a in fields)
+    if blk.imags is not None and blk.imag_bounds is not None:
+        # complex values: value_re, value_im, exact, exact_how, error_bound_re,
+        # error_bound_im, methods, agreement_digits
+        cols = list(zip(coords, blk.values, blk.imags, blk.exacts, blk.hows, blk.bounds,
+                        blk.imag_bounds, blk.methods, blk.agreements, strict=True))
+        csv = "".join(",".join(map(str, r)) + "\n" for r in cols)
+        js = "".join(f",\n[{r[0]}," + ",".join(f'"{x}"' for x in r[1:8]) + f",{r[8]}]"
+                     for r in cols)
+    else:
+        fields = list(zip(coords, blk.values, blk.exacts, blk.hows, blk.bounds, blk.methods,
+                          blk.agreements, strict=True))
+        csv = "".join(f"{c},{v},{x},{h},{e},{mt},{a}\n" for c, v, x, h, e, mt, a in fields)
+        js = "".join(f',\n[{c},"{v}","{x}","{h}","{e}","{mt}",{a}]'
+                     for c, v, x, h, e, mt, a in fields)
     checked = [a for a, mt in zip(blk.agreements, blk.methods, strict=True)
                if mt != "definition"]
     return Chunk(

@@ -22,19 +22,23 @@ def _report(k: int) -> None:
         _progress.put(k)
 
 
-def unit_job(args: tuple[str, str, int, int, str, bool, int, int]) -> Any:
-    """One work unit: batches [start, stop) of a table, computed, checked and rendered."""
+UnitArgs = tuple[str, str, str | None, int, int, str, bool, int, int]
+
+
+def unit_job(args: UnitArgs) -> Any:
+    """One work unit: batches [start, stop) of a table, computed, checked and rendered.
+    (lattice, quantity, energy, extent, digits, verify, with_exact, start, stop)"""
     from ..quantities import get_provider
     from .build import rows
     from .render import merge, render
 
-    lattice, quantity, extent, digits, verify, with_exact, start, stop = args
-    p = get_provider(lattice, quantity)
+    lattice, quantity, energy, extent, digits, verify, with_exact, start, stop = args
+    p = get_provider(lattice, quantity, energy)
     return merge([render(blk) for blk in
                   rows(p, extent, digits, verify, with_exact, start, stop, on_batch=_report)])
 
 
-def indexed_unit_job(job: tuple[int, tuple[str, str, int, int, str, bool, int, int]]) -> Any:
+def indexed_unit_job(job: tuple[int, UnitArgs]) -> Any:
     """(index, unit arguments) -> (index, chunk): for pools and clusters that return results
     in any order."""
     i, args = job
@@ -48,12 +52,15 @@ def ignore_sigint() -> None:
     signal.signal(signal.SIGTERM, signal.SIG_DFL)
 
 
-def check_job(args: tuple[str, str, list[tuple[int, ...]], int, bool]) -> list[Any]:
-    """One batch's independent values: (lattice, quantity, sites, digits, full)."""
+def check_job(args: tuple[str, str, str | None, list[tuple[int, ...]], int, bool]
+              ) -> list[Any]:
+    """One batch's independent values: (lattice, quantity, energy, sites, digits, full)."""
     from ..quantities import get_provider, mpf_fraction
 
-    lattice, quantity, sites, digits, full = args
-    p = get_provider(lattice, quantity)
+    lattice, quantity, energy, sites, digits, full = args
+    p = get_provider(lattice, quantity, energy)
+    if p.complex_valued:
+        return p.quad_sites(sites, digits)  # (re, im) pairs of Fractions
     if full:
         return [mpf_fraction(q) for q in p.quad_sites(sites, digits)]
     return list(p.quad_float_sites(sites))

@@ -1,0 +1,184 @@
+"""Energies: exact complex numbers E = re + i im with rational parts, parsed from text.
+
+An energy is given as a string such as ``"4.5"``, ``"9/2"``, ``"-1.25"``, ``"1.5+0.5j"``,
+``"0.5j"`` (``i`` is accepted for ``j``; blanks and one pair of enclosing parentheses are
+ignored).  Decimals are exact: ``"4.1"`` is 41/10 (through ``fractions.Fraction(str)``), never
+the binary float nearest to it.  Binary floats themselves are refused.
+
+Conventions (DESIGN.md): G(E; r) = <0|(E - H)^-1|r>, analytic off the band; for a real E inside
+the band the retarded limit E + i0 is taken, so only Im E >= 0 is accepted (for Im E < 0 use
+G(conj E) = conj G(E)).  Refused on the square lattice, with a one-line message:
+
+* E = +-4 (band edge): G(E; 0, 0) diverges logarithmically; the finite band-edge limit
+  2[G(0) - G(r)] is the ``resistance`` quantity;
+* E = 0 (band centre): the density of states diverges logarithmically, so Im G(0 + i0; 0, 0)
+  is infinite.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+from fractions import Fraction
+
+from .errors import InputError
+
+MAX_ENERGY_CHARS = 400
+MAX_EXPONENT = 300
+_DEC = r"(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?"
+_NUM = rf"(?:\d+/\d+|{_DEC})"
+_RE_REAL = re.compile(rf"^([+-]?{_NUM})$")
+_RE_IMAG = re.compile(rf"^([+-]?)({_NUM})?[ji]$")
+_RE_CPLX = re.compile(rf"^([+-]?{_NUM})([+-])({_NUM})?[ji]$")
+
+
+def _text(x: Fraction) -> str:
+    """A rational as a terminating decimal when it is one, else p/q.
+
+    >>> _text(Fraction(9, 2)), _text(Fraction(-7, 3)), _text(Fraction(3)), _text(Fraction(1, 1000))
+    ('4.5', '-7/3', '3', '0.001')
+    """
+    d = x.denominator
+    for p in (2, 5):
+        while d % p == 0:
+            d //= p
+    if d != 1:
+        return f"{x.numerator}/{x.denominator}"
+    if x.denominator == 1:
+        return str(x.numerator)
+    k = 0
+    while (x * 10**k).denominator != 1:
+        k += 1
+    n = abs(x.numerator * 10**k // x.denominator)
+    s = str(n).rjust(k + 1, "0")
+    return ("-" if x < 0 else "") + s[:-k] + "." + s[-k:]
+
+
+@dataclass(frozen=True)
+class Energy:
+    """An exact energy re + i im (Fractions), Im E >= 0."""
+
+    re: Fraction
+    im: Fraction
+
+    @property
+    def is_real(self) -> bool:
+        return self.im == 0
+
+    def __str__(self) -> str:
+        """Canonical text: ``4.5``, ``-7/3``, ``1.5+0.5j``, ``0.5j``.
+
+        >>> str(parse_energy(" (1.50 + 0.5j) ")), str(parse_energy("14/6"))
+        ('1.5+0.5j', '7/3')
+        """
+        if self.im == 0:
+            return _text(self.re)
+        im = _text(self.im)
+        if self.re == 0:
+            return f"{im}j"
+        return f"{_text(self.re)}+{im}j"
+
+    def slug(self) -> str:
+        """The energy inside file and table names, characters [a-z0-9._] only: ``e`` then the
+        canonical text with ``m`` for a minus sign, ``p`` for the plus before the imaginary
+        part and ``_`` for a fraction bar.
+
+        >>> [parse_energy(t).slug() for t in ("9/2", "-4.5", "1.5+0.5j", "-7/3+1/2j")]
+        ['e4.5', 'em4.5', 'e1.5p0.5j', 'em7_3p0.5j']
+        """
+        return "e" + str(self).replace("-", "m").replace("+", "p").replace("/", "_")
+
+
+def check_energy(er: Fraction, ei: Fraction, text: str) -> Energy:
+    """The square lattice's refusals (band edges, band centre, lower half plane)."""
+    if ei < 0:
+        raise InputError(
+            f"energy {text!r} has a negative imaginary part: latgreen takes the retarded "
+            "branch E + i0 (Im E >= 0); use the complex conjugate, G(conj E) = conj G(E)")
+    if ei == 0 and abs(er) == 4:
+        raise InputError(
+            f"energy {text!r} is on the band edge +-4 where G(E;0,0) diverges "
+            "(logarithmically); the finite band-edge limit 2[G(0)-G(r)] is the "
+            "'resistance' quantity (latgreen resistance square M N)")
+    if ei == 0 and er == 0:
+        raise InputError(
+            f"energy {text!r} is the band centre E = 0 where the density of states "
+            "diverges logarithmically and Im G(E+i0;0,0) is infinite")
+    return Energy(er, ei)
+
+
+def parse_energy(text: object) -> Energy:
+    """Exact energy from a string; ints, Fractions and Energy objects pass through checked.
+
+    >>> parse_energy("9/2"), str(parse_energy("0.5j"))
+    (Energy(re=Fraction(9, 2), im=Fraction(0, 1)), '0.5j')
+    >>> parse_energy("1.5-0.5j")  # doctest: +ELLIPSIS
+    Traceback (most recent call last):
+    ...
+    latgreen.errors.InputError: energy '1.5-0.5j' has a negative imaginary part: ...
+    """
+    if isinstance(text, Energy):
+        return check_energy(text.re, text.im, str(text))
+    if isinstance(text, bool | float | complex):
+        raise InputError(f"energy {text!r} is a binary float: pass a string ('4.1') or a "
+                         "Fraction instead")
+    if isinstance(text, int | Fraction):
+        return check_energy(Fraction(text), Fraction(0), str(text))
+    if not isinstance(text, str):
+        raise InputError(f"cannot use {text!r} as an energy: pass a string such as '9/2' or "
+                         "'1.5+0.5j'")
+    s = "".join(text.split())
+    if len(s) >= 2 and s[0] == "(" and s[-1] == ")":
+        s = s[1:-1]
+    # an exponent such as 1e999999999 would build a huge integer before any check
+    if len(s) > MAX_ENERGY_CHARS or any(abs(int(x)) > MAX_EXPONENT
+                                        for x in re.findall(r"[eE]([+-]?\d+)", s)):
+        raise InputError(f"energy {text[:40]!r}{'...' if len(text) > 40 else ''} is too long: "
+                         f"at most {MAX_ENERGY_CHARS} characters and exponents up to "
+                         f"+-{MAX_EXPONENT}")
+    try:
+        if mt := _RE_REAL.match(s):
+            er, ei = Fraction(mt.group(1)), Fraction(0)
+        elif mt := _RE_IMAG.match(s):
+            er = Fraction(0)
+            ei = Fraction(mt.group(2) or "1") * (-1 if mt.group(1) == "-" else 1)
+        elif mt := _RE_CPLX.match(s):
+            er = Fraction(mt.group(1))
+            ei = Fraction(mt.group(3) or "1") * (-1 if mt.group(2) == "-" else 1)
+        else:
+            raise ValueError
+    except (ValueError, ZeroDivisionError):
+        raise InputError(f"cannot parse energy {text!r}: expected e.g. '4.5', '9/2', "
+                         "'1.5+0.5j', '0.5j'") from None
+    return check_energy(er, ei, text)
+
+
+def parse_energy_grid(text: str) -> list[Energy]:
+    """``A:B:COUNT`` -> COUNT equally spaced exact real energies from A to B inclusive
+    (COUNT >= 2; COUNT = 1 gives A alone).  Every point goes through the energy checks, so a
+    grid that hits 0 or +-4 is refused with the offending point named.
+
+    >>> [str(e) for e in parse_energy_grid("0.5:2:4")]
+    ['0.5', '1', '1.5', '2']
+    """
+    parts = text.split(":") if isinstance(text, str) else []
+    if len(parts) != 3:
+        raise InputError(f"cannot parse energy grid {text!r}: expected A:B:COUNT, e.g. "
+                         "'0.5:3.5:7'")
+    try:
+        count = int(parts[2])
+    except ValueError:
+        raise InputError(f"energy grid {text!r}: COUNT must be an integer") from None
+    if count < 1 or count > 100_000:
+        raise InputError(f"energy grid {text!r}: COUNT must be between 1 and 100000")
+    a, b = parse_energy(parts[0]), parse_energy(parts[1])
+    if not (a.is_real and b.is_real):
+        raise InputError(f"energy grid {text!r}: the end points must be real")
+    if count == 1:
+        return [a]
+    step = (b.re - a.re) / (count - 1)
+    out = []
+    for k in range(count):
+        x = a.re + k * step
+        out.append(check_energy(x, Fraction(0), f"{_text(x)} (point {k} of the grid {text})"))
+    return out

@@ -1,0 +1,252 @@
+"""The single-value API of the energy-dependent quantities: ``green``, ``dos``, ``local_dos``.
+
+``green`` evaluates the exact form a G00 + b G11 + c of G(E; m, n) as a certified ball and
+prints each component correctly rounded to ``digits`` significant digits of its own (a
+component that is exactly 0 by symmetry prints as ``0``); the quadrature of the reduced
+integral must agree on every printed digit of both components.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+from fractions import Fraction
+from typing import Any
+
+import mpmath
+
+from ..energy import Energy, parse_energy
+from ..errors import InputError, PrecisionError, VerificationError
+from ..exact import square_green as exact_green
+from ..exact.complex_eval import round_arb
+from ..exact.forms import Constant, ExactForm
+from ..lattices import Site, get_lattice
+from ..methods.square_green_closed import arb_q, dos_ball
+from ..methods.square_green_quadrature import green_quad
+from ..rounding import ZERO, Rounded, agreement_digits
+from . import Result, check_digits
+from .square_green import quad_digits_needed
+
+BASIS_TEXT = ("G00 = G(E;0,0) = 2*elliptic_k(16/E**2)/(pi*E), G11 = G(E;1,1) = "
+              "(E**2 - 8)/8*G00 - E*elliptic_e(16/E**2)/(4*pi) (parameter convention, "
+              "principal branch, off the cut; on the cut the E + i0 limits of the README)")
+
+
+def _square(lattice: str) -> None:
+    lat = get_lattice(lattice)
+    if lat.name != "square":  # pragma: no cover - only the square lattice is registered
+        raise InputError(f"green is not available for the {lat.name} lattice yet")
+
+
+def _frac(x: Any) -> Fraction:
+    sign, man, exp, _ = x._mpf_
+    if not man:
+        return Fraction(0)
+    v = Fraction(int(man)) * Fraction(2) ** int(exp)
+    return -v if sign else v
+
+
+def _modulus_bound(bounds: Sequence[Rounded]) -> str:
+    """A bound on |printed - true| from the components' half-ulps 5e-k: at most 1e-(k-1)."""
+    ks = [r.exp - len(r.digits) for r in bounds if r.digits]
+    return f"1e{max(ks) + 1:d}" if ks else "0"
+
+
+@dataclass(frozen=True)
+class GreenResult:
+    """One verified complex value G(E; m, n).
+
+    ``value`` is ``RE+IMj`` (Python/mpmath complex syntax); ``value_re``, ``value_im`` are the
+    components, each correctly rounded to ``digits`` significant digits of its own (``0`` for
+    a component that vanishes by symmetry); ``error_bound_re``/``_im`` bound each component's
+    error (half a unit in its last place) and ``error_bound`` bounds |value - G|.
+    """
+
+    lattice: str
+    site: Site
+    canonical_site: Site
+    energy: Energy
+    digits: int
+    value_re: str
+    value_im: str
+    exact: exact_green.GreenForm
+    error_bound_re: str
+    error_bound_im: str
+    error_bound: str
+    methods: tuple[str, ...]
+    agreement_digits: int
+    notes: tuple[str, ...] = field(default=())
+    quantity: str = "green"
+
+    @property
+    def value(self) -> str:
+        im = self.value_im
+        return f"{self.value_re}{'' if im.startswith('-') else '+'}{im}j"
+
+    @property
+    def mpc(self) -> mpmath.mpc:
+        """The printed value as an mpmath complex number."""
+        with mpmath.workdps(self.digits + 5):
+            return mpmath.mpc(mpmath.mpf(self.value_re), mpmath.mpf(self.value_im))
+
+    def to_json(self) -> dict[str, Any]:
+        return {
+            "lattice": self.lattice,
+            "quantity": self.quantity,
+            "site": list(self.site),
+            "canonical_site": list(self.canonical_site),
+            "digits": self.digits,
+            "value": self.value,
+            "exact": str(self.exact),
+            "exact_how": self.exact.how,
+            "error_bound": self.error_bound,
+            "methods": list(self.methods),
+            "agreement_digits": self.agreement_digits,
+            "notes": list(self.notes),
+            "energy": str(self.energy),
+            "value_re": self.value_re,
+            "value_im": self.value_im,
+            "error_bound_re": self.error_bound_re,
+            "error_bound_im": self.error_bound_im,
+            "exact_basis": BASIS_TEXT,
+        }
+
+
+def component_agreement(centre: tuple[Fraction, Fraction], q: tuple[Fraction, Fraction],
+                        zero: tuple[bool, bool], digits: int) -> int:
+    """Digits on which both components agree; a component 0 by symmetry agrees when the
+    quadrature's is below 10^-digits |G|."""
+    size2 = q[0] * q[0] + q[1] * q[1]  # exact: G can be far below float64's range
+    out = digits
+    for c, x, z in zip(centre, q, zero, strict=True):
+        if z:
+            if x * x * 100**digits > size2:
+                return 0
+        else:
+            out = min(out, agreement_digits(c, x, digits))
+    return out
+
+
+def green(lattice: str, site: Sequence[object], energy: object, digits: int = 50) -> GreenResult:
+    """G(E; site) = <0|(E - H)^-1|site> at an exact energy (a string such as "9/2" or
+    "1.5+0.5j"; E + i0 on the band), to ``digits`` verified significant digits per component.
+
+    >>> g = green("square", (1, 0), energy="9/2", digits=20)
+    >>> g.value, str(g.exact), g.methods
+    ('0.10576448447004864316+0j', '9/8*G00 - 1/4', ('recurrence', 'quadrature'))
+    """
+    _square(lattice)
+    lat = get_lattice(lattice)
+    digits = check_digits(digits)
+    E = parse_energy(energy)
+    s = lat.site(site)
+    c = lat.canonical(s)
+    if c[0] > 2000:
+        raise InputError(f"site {c}: exact forms of G are produced for coordinates up to 2000")
+    form = exact_green.green_form(E, c[0], c[1])
+    v = exact_green.evaluate(form, E, (c[0], c[1]), digits)
+    zero = exact_green.zero_parts(E, c[0], c[1])
+    dps = quad_digits_needed(v, digits)
+    with mpmath.workdps(dps + 5):
+        q = green_quad(E, c[0], c[1], dps)
+        qf = (_frac(q.real), _frac(q.imag))
+    agree = component_agreement(v.center, qf, zero, digits)
+    if agree < digits:
+        raise VerificationError(f"square green at E = {E}, site {c}: recurrence and quadrature "
+                                f"agree to only {agree} of {digits} digits")
+    return GreenResult("square", s, c, E, digits, str(v.re), str(v.im), form,
+                       v.re.half_ulp(), v.im.half_ulp(), _modulus_bound([v.re, v.im]),
+                       ("recurrence", "quadrature"), agree)
+
+
+def _real_energy(energy: object, what: str) -> Energy:
+    E = parse_energy(energy)
+    if not E.is_real:
+        raise InputError(f"the {what} is taken at real energies (E + i0); got {E}: for complex "
+                         "E use the green quantity")
+    return E
+
+
+def _certify_real(build: Any, start: int, digits: int, what: str) -> tuple[Rounded, Fraction]:
+    bits = start
+    while True:
+        r, c = round_arb(build(bits), digits)
+        if r is not None:
+            return r, c
+        if bits > 8 * start + 4096:
+            raise PrecisionError(f"could not certify {digits} digits of {what} (it may be 0)")
+        bits = (bits + bits // 2 + 63) // 64 * 64
+
+
+def _dos_result(E: Energy, site: Site, canon: Site, digits: int, quantity: str,
+                build: Any, start: int, exact: ExactForm | None) -> Result:
+    if abs(E.re) > 4:  # Im G = 0 exactly off the band (G is real there)
+        return Result("square", quantity, site, canon, digits, "0",
+                      ExactForm((Fraction(0),), ()), "0", ("definition",), digits,
+                      notes=("outside the band [-4, 4] G is real: the density is 0",),
+                      energy=str(E))
+    r, centre = _certify_real(build, start, digits, f"the {quantity} at E = {E}")
+    dps = digits + 3
+    with mpmath.workdps(dps + 5):
+        q = -green_quad(E, canon[0], canon[1], dps).imag / mpmath.pi
+        qf = _frac(q)
+    agree = agreement_digits(centre, qf, digits)
+    if agree < digits:
+        raise VerificationError(f"square {quantity} at E = {E}: closed form and quadrature "
+                                f"agree to only {agree} of {digits} digits")
+    return Result("square", quantity, site, canon, digits, str(r), exact, r.half_ulp(),
+                  ("closed-form" if quantity == "dos" else "recurrence", "quadrature"), agree,
+                  energy=str(E))
+
+
+def dos(lattice: str, energy: object, digits: int = 50) -> Result:
+    """Density of states per site rho(E) = -Im G(E + i0; 0, 0)/pi = K(1 - E^2/16)/(2 pi^2)
+    for 0 < |E| < 4 (K of parameter m, DLMF 19.2), 0 outside the band; normalised to 1.
+
+    >>> r = dos("square", energy="2.5", digits=20)
+    >>> r.value, str(r.exact)
+    ('0.099286025262700925750', 'elliptic_k(39/64)/(2*pi**2)')
+    """
+    _square(lattice)
+    digits = check_digits(digits)
+    E = _real_energy(energy, "density of states")
+    q = 1 - E.re * E.re / 16
+    qt = str(q.numerator) if q.denominator == 1 else f"{q.numerator}/{q.denominator}"
+    from flint import acb, arb
+
+    const = Constant(f"elliptic_k({qt})/pi**2",
+                     lambda: acb(arb_q(q)).elliptic_k().real / arb.pi() ** 2)
+    form = ExactForm((Fraction(1, 2),), (const,))
+    start = -(-(math.ceil((digits + 2) * 3.33) + 64) // 64) * 64
+    return _dos_result(E, (0, 0), (0, 0), digits, "dos", lambda b: dos_ball(E.re, b), start,
+                       form)
+
+
+def local_dos(lattice: str, site: Sequence[object], energy: object, digits: int = 50) -> Result:
+    """Local density of states rho(E; m, n) = -Im G(E + i0; m, n)/pi (real E; 0 off the
+    band), from the exact form (real coefficients a, b: -(a Im G00 + b Im G11)/pi).  The
+    off-diagonal ones can be negative.  ``exact`` is None (the form is that of G)."""
+    _square(lattice)
+    lat = get_lattice(lattice)
+    digits = check_digits(digits)
+    E = _real_energy(energy, "local density of states")
+    s = lat.site(site)
+    c = lat.canonical(s)
+    form = exact_green.green_form(E, c[0], c[1])
+    from flint import arb, ctx
+
+    def build(bits: int) -> Any:
+        b = exact_green.ball(form, E, bits)
+        old = ctx.prec
+        try:
+            ctx.prec = bits
+            return -b.imag / arb.pi()
+        finally:
+            ctx.prec = old
+
+    return _dos_result(E, s, c, digits, "local-dos", build,
+                       exact_green.start_bits(form, digits), None)
+
+
+__all__ = ["ZERO", "GreenResult", "dos", "green", "local_dos"]
