@@ -18,8 +18,13 @@ TABLES = ROOT / "tables"
 
 @pytest.mark.parametrize(("lattice", "quantity", "extent", "digits"), CATALOGUE)
 def test_catalogue_table_is_current(lattice, quantity, extent, digits):
-    d = TABLES / f"{lattice}-{quantity}"
+    index = json.loads((TABLES / "catalogue.json").read_text())
+    entry = index["tables"][f"{lattice}-{quantity}"]
+    d = TABLES / f"{lattice}-{quantity}" / entry["current"]
     desc = json.loads((d / "datapackage.json").read_text())
+    assert desc["version"] == entry["current"]
+    assert entry["versions"][entry["current"]]["hashes"] == {
+        r["path"]: r["hash"] for r in desc["resources"]}
     assert desc["latgreen"]["extent"] == extent and desc["latgreen"]["digits"] == digits
     for res in desc["resources"]:
         data = (d / res["path"]).read_bytes()

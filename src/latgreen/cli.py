@@ -153,6 +153,15 @@ def _parser() -> argparse.ArgumentParser:
     au.add_argument("--plot", type=Path, default=None, metavar="FILE.png",
                     help="agreeing digits against distance from the origin")
 
+    rg = sub.add_parser("regen", help="recompute a published table version at more digits "
+                        "as the next version, proving the old digits stand")
+    rg.add_argument("dir", type=Path, help="a published version, ROOT/<table-id>/vN")
+    rg.add_argument("--digits", type=_digits, required=True)
+    rg.add_argument("--extent", type=_extent, default=None,
+                    help="a larger extent (default: the old one)")
+    rg.add_argument("--quiet", action="store_true")
+    rg.add_argument("--json", action="store_true", help="print the comparison report as JSON")
+
     v = sub.add_parser("verify", help="check a published table: hashes, package, rows")
     v.add_argument("dir", type=Path, help="the table's directory (with datapackage.json)")
     v.add_argument("--all", action="store_true", help="recompute every row, not a sample")
@@ -293,6 +302,18 @@ def _cmd_audit(a: argparse.Namespace) -> int:
     return rep.exit_status()
 
 
+def _cmd_regen(a: argparse.Namespace) -> int:
+    from .tables.regen import regenerate
+
+    rep = regenerate(a.dir, a.digits, a.extent, progress=not a.quiet)
+    if a.json:
+        print(json.dumps(rep))
+    else:
+        print(tabulate([[k, v] for k, v in rep.items() if k != "first_discrepancies"],
+                       tablefmt="simple", disable_numparse=True))
+    return 0
+
+
 def _cmd_verify(a: argparse.Namespace) -> int:
     from .tables.verify import report_json, verify_table
 
@@ -319,7 +340,8 @@ def _cmd_lattices(a: argparse.Namespace) -> int:
 
 COMMANDS = {"resistance": _cmd_resistance, "green": _cmd_green, "dos": _cmd_dos,
             "table": _cmd_table, "check": _cmd_check, "build": _cmd_build,
-            "audit": _cmd_audit, "verify": _cmd_verify, "lattices": _cmd_lattices}
+            "audit": _cmd_audit, "verify": _cmd_verify, "regen": _cmd_regen,
+            "lattices": _cmd_lattices}
 
 
 def _notes(e: BaseException) -> None:

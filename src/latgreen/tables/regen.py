@@ -72,7 +72,7 @@ def _stands(old: str, new: str, old_digits: int, new_digits: int, lattice: str,
 
 
 def regenerate(version_dir: Path, digits: int, extent: int | None = None,
-               progress: bool = True) -> dict[str, Any]:
+               progress: bool = True, locked: bool = False) -> dict[str, Any]:
     """Recompute ``version_dir`` at ``digits`` (and ``extent``) as the next version."""
     version_dir = Path(version_dir).resolve()
     if version_number(version_dir.name) is None or not (version_dir /
@@ -81,6 +81,10 @@ def regenerate(version_dir: Path, digits: int, extent: int | None = None,
     table_root = version_dir.parent
     root = table_root.parent
     old_desc, old_rows, coords = _read(version_dir)
+    names = [f["name"] for f in old_desc["resources"][0]["schema"]["fields"]]
+    if names[coords] != "value" or names[coords + 1] != "exact":
+        raise InputError(f"{version_dir}: regeneration handles tables of real values (columns "
+                         "value, exact, ...) for now")
     lg = old_desc["latgreen"]
     old_digits, old_extent = int(lg["digits"]), int(lg["extent"])
     extent = old_extent if extent is None else extent
@@ -129,7 +133,7 @@ def regenerate(version_dir: Path, digits: int, extent: int | None = None,
             json.dump(report, f, indent=2)
             f.write("\n")
 
-    with catalogue_lock(root):
+    with contextlib.nullcontext() if locked else catalogue_lock(root):
         state, desc = publish(root, old_desc["name"], build, if_changed=False, check=check)
     report["new_version"] = desc.get("version")
     report["state"] = state
