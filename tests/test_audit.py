@@ -95,7 +95,7 @@ def test_our_own_values_json_layout_is_read(tmp_path, reference):
     (("--lattice", "square", "--tolerance", "-1"), "tolerance"),
     (("--lattice", "square", "--scale", "two"), "--scale"),
     (("--lattice", "square", "--origin", "1,a"), "--origin"),
-    (("--lattice", "square", "--energy", "4.5"), "--energy"),
+    (("--lattice", "square", "--energy", "4.5"), "takes no energy"),
 ])
 def test_input_errors_exit_2(tmp_path, args, needle):
     f = tmp_path / "f.csv"
@@ -121,3 +121,30 @@ def test_demo_is_reproducible(tmp_path):
     assert p.returncode == 1
     assert p.stdout == (DEMO / "expected-report.txt").read_text()
     assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+def test_green_audit_with_complex_values_and_hopping_minus_one(tmp_path):
+    # our own references at E = 9/2 (checked elsewhere against the closed form, DLMF 19.2),
+    # written as another code would: Python complex syntax; then the same numbers as a code
+    # with hopping -1 reports them at E = -9/2: G_-(E) = -G(-E)
+    from latgreen.quantities import green
+
+    sites = [(0, 0), (1, 0), (2, 1), (4, 2)]
+    vals = [complex(green("square", s, energy="9/2", digits=20).value) for s in sites]
+    f = tmp_path / "g.csv"
+    f.write_text("m,n,G\n" + "".join(f"{m},{n},{v!r}\n" for (m, n), v in zip(sites, vals,
+                                                                          strict=True)))
+    p = run_cli("audit", str(f), "--lattice", "square", "--quantity", "green", "--energy",
+                "9/2", "--value-column", "G", "--tolerance", "1e-14", "--json")
+    assert p.returncode == 0, p.stdout + p.stderr
+    assert json.loads(p.stdout)["summary"]["ok"] == 4
+    g = tmp_path / "gm.csv"
+    g.write_text("m,n,G\n" + "".join(f"{m},{n},{-v!r}\n" for (m, n), v in zip(sites, vals,
+                                                                           strict=True)))
+    p = run_cli("audit", str(g), "--lattice", "square", "--quantity", "green",
+                "--energy=-9/2", "--hopping", "-1", "--value-column", "G", "--tolerance",
+                "1e-14")
+    assert p.returncode == 0, p.stdout + p.stderr
+    p = run_cli("audit", str(g), "--lattice", "square", "--quantity", "green",
+                "--energy=-9/2", "--value-column", "G", "--tolerance", "1e-14")
+    assert p.returncode == 1  # without the convention, the odd sites disagree

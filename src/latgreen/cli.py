@@ -146,6 +146,8 @@ def _parser() -> argparse.ArgumentParser:
     au.add_argument("--scale", default="1",
                     help="their value = SCALE x ours (e.g. 2, 1/3, 0.5)")
     au.add_argument("--negate", action="store_true", help="their sign is the opposite of ours")
+    au.add_argument("--hopping", type=int, choices=(1, -1), default=1,
+                    help="the other code's hopping amplitude (green: -1 means G(-E) negated)")
     au.add_argument("--origin", default=None, metavar="COORDS",
                     help="their sites are measured from this site (comma list)")
     au.add_argument("--digits", type=_digits, default=20, help="digits of the references")
@@ -261,8 +263,6 @@ def _cmd_audit(a: argparse.Namespace) -> int:
     from .lattices import get_lattice
     from .tables.audit import Conventions, audit, plot
 
-    if a.energy is not None:
-        raise InputError(f"--energy does not apply to the {a.quantity} quantity")
     lat = get_lattice(a.lattice)
     cols = (a.site_columns.split(",") if a.site_columns else list(lat.coordinate_names))
     cols = [c.strip() for c in cols]
@@ -281,7 +281,7 @@ def _cmd_audit(a: argparse.Namespace) -> int:
     if not a.file.is_file():
         raise InputError(f"no such file: {a.file}")
     rep = audit(a.file, a.lattice, a.quantity, cols, a.value_column, a.tolerance,
-                Conventions(scale, a.negate, origin), a.digits)
+                Conventions(scale, a.negate, origin, a.hopping), a.digits, a.energy)
     if a.plot is not None:
         plot(rep, a.plot)
     summ = rep.summary()

@@ -40,6 +40,7 @@ class Conventions:
     scale: Fraction = Fraction(1)
     negate: bool = False
     origin: tuple[int, ...] | None = None
+    hopping: int = 1  # the other code's hopping amplitude: +1 (ours) or -1
 
 
 @dataclass
@@ -124,13 +125,25 @@ def _read_rows(path: Path) -> list[tuple[int, dict[str, str]]]:
 
 def audit(path: Path, lattice: str, quantity: str, site_columns: list[str], value_column: str,
           tolerance: float = 1e-12, conventions: Conventions | None = None,
-          digits: int = REF_DIGITS) -> AuditReport:
-    """Audit a foreign file; see the module docstring."""
-    provider = get_provider(lattice, quantity)
+          digits: int = REF_DIGITS, energy: str | None = None) -> AuditReport:
+    """Audit a foreign file; see the module docstring.
+
+    Energy-dependent quantities (``green``) take ``energy``; their values in the file are
+    complex numbers written as Python does (``0.1+0.2j``, ``-0.3j``, ``0.5``).  A code with
+    hopping -1 has G_-(E) = -G(-E) in ours: ``conventions.hopping = -1`` evaluates our
+    reference at -E and flips its sign.
+    """
+    conv = conventions or Conventions()
+    if energy is not None and conv.hopping == -1:
+        from ..energy import parse_energy
+
+        e = parse_energy(energy)
+        energy = str(type(e)(-e.re, e.im)) if hasattr(e, "re") else energy
+    provider = get_provider(lattice, quantity, energy)
+    cplx = bool(getattr(provider, "complex_valued", False))
     digits = check_digits(digits)
     if not (tolerance > 0 and math.isfinite(tolerance)):
         raise InputError(f"tolerance must be a positive number, got {tolerance}")
-    conv = conventions or Conventions()
     if conv.scale == 0:
         raise InputError("scale must not be zero")
     lat = provider.lattice
@@ -167,16 +180,17 @@ def audit(path: Path, lattice: str, quantity: str, site_columns: list[str], valu
         text = row.get(value_column, "").strip()
         ar.value = text
         try:
-            v = float(text)
+            z = complex(text) if cplx else complex(float(text))
         except ValueError:
             ar.message = f"value {text!r} is not a number"
             continue
-        if not math.isfinite(v):
+        if not (math.isfinite(z.real) and math.isfinite(z.imag)):
             ar.message = f"value {text!r} is not finite"
             continue
-        ours = Fraction(text) / conv.scale
-        if conv.negate:
-            ours = -ours
+        sign = -1 if conv.negate != (conv.hopping == -1 and energy is not None) else 1
+        ours: Any = (Fraction(z.real) / conv.scale * sign, Fraction(z.imag) / conv.scale * sign)
+        if not cplx:
+            ours = Fraction(text) / conv.scale * sign
         ar.canonical = lat.canonical(site)
         parsed.append((ar, ar.canonical, ours))
     if parsed:
@@ -191,9 +205,18 @@ def audit(path: Path, lattice: str, quantity: str, site_columns: list[str], valu
                 ar.message = f"site {site} is beyond the reference range"
                 continue
             ar.reference = ref
-            theirs = Fraction(ref) * conv.scale * (-1 if conv.negate else 1)
-            ar.expected = str(round_rational(theirs, 17)) if theirs else "0"
-            rel = _relative_error(ours, Fraction(ref))
+            if cplx:
+                rre, rim = (Fraction(x) for x in ref.removesuffix("j").rsplit("|", 1))
+                ar.reference = _complex_text(rre, rim)
+                ar.expected = _complex_text(rre * conv.scale * sign, rim * conv.scale * sign,
+                                            17)
+                den = math.hypot(float(rre), float(rim))
+                diff = math.hypot(float(ours[0] - rre), float(ours[1] - rim))
+                rel = (0.0 if diff == 0 else math.inf) if den == 0 else diff / den
+            else:
+                theirs = Fraction(ref) * conv.scale * sign
+                ar.expected = str(round_rational(theirs, 17)) if theirs else "0"
+                rel = _relative_error(ours, Fraction(ref))
             ar.relative_error = rel
             ar.agreeing_digits = (min(cap, digits) if rel == 0 else
                                   max(0, min(cap, digits, math.floor(-math.log10(rel)))))
@@ -213,15 +236,27 @@ def _relative_error(x: Fraction, ref: Fraction) -> float:
     return float(abs(x - ref) / abs(ref))
 
 
+def _complex_text(re: Fraction, im: Fraction, digits: int | None = None) -> str:
+    def f(x: Fraction) -> str:
+        return str(round_rational(x, digits)) if digits and x else str(x if not digits else 0)
+
+    r, i = (f(re), f(im)) if digits else (str(re), str(im))
+    return f"{r}{'' if i.startswith('-') else '+'}{i}j"
+
+
 def _references(provider: Any, sites: set[tuple[int, ...]], digits: int) -> dict[Any, str]:
-    """Verified reference values for the canonical sites asked, from one table pass."""
+    """Verified reference values for the canonical sites asked, from one table pass (complex
+    values as "re|im")."""
     extent = max(max(s) for s in sites)
     extent = min(extent, provider.exact_limit)
+    cplx = bool(getattr(provider, "complex_valued", False))
     refs: dict[Any, str] = {}
-    for blk in table_rows(provider, extent, digits, "fast", with_exact=False):
-        for s, v in zip(blk.sites, blk.values, strict=True):
+    for blk in table_rows(provider, extent, digits, "full" if cplx else "fast",
+                          with_exact=False):
+        for k, s in enumerate(blk.sites):
             if s in sites:
-                refs[s] = v
+                refs[s] = (f"{blk.values[k]}|{blk.imags[k]}" if cplx and blk.imags
+                           else blk.values[k])
     return refs
 
 
