@@ -140,7 +140,7 @@ def unit_count(workers: int, batches: int, text_estimate: int, distributed: bool
     elif workers > 1:
         n = max(workers, by_text)
     else:
-        n = max(by_text, min(32, batches // 8))
+        n = max(by_text, min(8, batches // 8))
     return max(1, min(n, batches))
 
 

@@ -17,7 +17,7 @@ import platform
 import shutil
 import subprocess
 import tempfile
-from collections.abc import Iterable
+from collections.abc import Callable, Iterable
 from pathlib import Path
 from typing import Any
 
@@ -109,11 +109,11 @@ def check_output_dir(out: Path, force: bool) -> None:
         raise InputError(f"cannot write to {probe}: {e.strerror}") from None
 
 
-def write_table(out: Path, lattice: Lattice, quantity: str, chunks: Iterable[Chunk],
-                meta: dict[str, Any], force: bool = False) -> dict[str, Any]:
-    """Write the three files into a fresh temporary directory beside ``out``, then move it
-    into place.  On any error or interruption the temporary directory is removed and ``out``
-    is left as it was."""
+def _staged(out: Path, force: bool, fill: Callable[[Path], dict[str, Any]]) -> dict[str, Any]:
+    """Run ``fill(tmp)`` (which writes the data files and returns the descriptor) in a fresh
+    temporary directory beside ``out``, write the descriptor, then move the directory into
+    place.  On any error or interruption the temporary directory is removed and ``out`` is
+    left as it was."""
     check_output_dir(out, force)
     parent = out.resolve().parent
     try:
@@ -125,10 +125,7 @@ def write_table(out: Path, lattice: Lattice, quantity: str, chunks: Iterable[Chu
     except OSError as e:
         raise InputError(f"cannot write to {parent}: {e.strerror}") from None
     try:
-        started = _utc_now()
-        summary = _write_files(tmp, lattice, quantity, chunks, meta)
-        ended = _utc_now()
-        descriptor = _descriptor(lattice, quantity, meta, summary, started, ended)
+        descriptor = fill(tmp)
         with open(tmp / "datapackage.json", "w", encoding="utf-8", newline="\n") as f:
             json.dump(descriptor, f, indent=2, ensure_ascii=False)
             f.write("\n")
@@ -137,6 +134,18 @@ def write_table(out: Path, lattice: Lattice, quantity: str, chunks: Iterable[Chu
         shutil.rmtree(tmp, ignore_errors=True)
         raise
     return descriptor
+
+
+def write_table(out: Path, lattice: Lattice, quantity: str, chunks: Iterable[Chunk],
+                meta: dict[str, Any], force: bool = False) -> dict[str, Any]:
+    """The three files of a table over sites, written atomically (:func:`_staged`)."""
+
+    def fill(tmp: Path) -> dict[str, Any]:
+        started = _utc_now()
+        summary = _write_files(tmp, lattice, quantity, chunks, meta)
+        return _descriptor(lattice, quantity, meta, summary, started, _utc_now())
+
+    return _staged(out, force, fill)
 
 
 def _replace_dir(tmp: Path, out: Path) -> None:
@@ -375,17 +384,8 @@ def write_energy_table(out: Path, lattice: Lattice, quantity: str,
                        meta: dict[str, Any], force: bool = False) -> dict[str, Any]:
     """A table over an energy grid (one row per energy, in grid order): the same files,
     atomicity and descriptor layout as a table over sites."""
-    check_output_dir(out, force)
-    parent = out.resolve().parent
-    try:
-        parent.mkdir(parents=True, exist_ok=True)
-        tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.tmp-", dir=parent))
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(tmp, 0o777 & ~umask)
-    except OSError as e:
-        raise InputError(f"cannot write to {parent}: {e.strerror}") from None
-    try:
+
+    def fill(tmp: Path) -> dict[str, Any]:
         started = _utc_now()
         names = [f["name"] for f in DOS_FIELDS]
         csv_sink, json_sink = _Hashing(tmp / "values.csv"), _Hashing(tmp / "values.json")
@@ -455,11 +455,6 @@ def write_energy_table(out: Path, lattice: Lattice, quantity: str,
                                 "min_agreement_digits": min_agree},
             },
         }
-        with open(tmp / "datapackage.json", "w", encoding="utf-8", newline="\n") as f:
-            json.dump(desc, f, indent=2, ensure_ascii=False)
-            f.write("\n")
-        _replace_dir(tmp, out)
-    except BaseException:
-        shutil.rmtree(tmp, ignore_errors=True)
-        raise
-    return desc
+        return desc
+
+    return _staged(out, force, fill)
