@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import os
 import signal
 import sys
 import threading
@@ -394,6 +395,10 @@ def main(argv: Sequence[str] | None = None) -> int:
     except LatgreenError as e:  # pragma: no cover - every subclass is handled above
         print(f"latgreen: error: {e}", file=sys.stderr)
         return 2
+    except BrokenPipeError:
+        # the reader went away (| head): stop quietly, as other command-line tools do
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        return 141
     except OSError as e:
         print(f"latgreen: error: {e.strerror or e}: {e.filename or ''}".rstrip(": "),
               file=sys.stderr)
