@@ -16,7 +16,7 @@ from typing import Any
 from ._version import __version__
 from .errors import InputError, LatgreenError, PrecisionError, VerificationError
 
-_LAZY = {"MAX_DIGITS", "Result", "resistance"}
+_LAZY = {"MAX_DIGITS", "Result", "resistance", "return_probability"}
 
 
 def __getattr__(name: str) -> Any:
@@ -28,4 +28,4 @@ def __getattr__(name: str) -> Any:
 
 
 __all__ = ["MAX_DIGITS", "InputError", "LatgreenError", "PrecisionError", "Result",
-           "VerificationError", "__version__", "resistance"]
+           "VerificationError", "__version__", "resistance", "return_probability"]

@@ -21,7 +21,7 @@ from tabulate import tabulate
 from . import __version__
 from .errors import InputError, LatgreenError, PrecisionError, VerificationError
 from .lattices import LATTICES
-from .quantities import MAX_DIGITS, QUANTITIES, resistance
+from .quantities import MAX_DIGITS, QUANTITIES, resistance, return_probability
 from .tables.make import CATALOGUE, TableRequest, build_catalogue, check_region, make_table
 
 
@@ -70,6 +70,15 @@ def _parser() -> argparse.ArgumentParser:
     g.add_argument("--exact", action="store_true", help="print the exact form instead")
     g.add_argument("--json", action="store_true", help="print one JSON object")
 
+    rp = sub.add_parser("return-probability",
+                        help="Polya's return probability of the random walk (sc, bcc, fcc)")
+    rp.add_argument("lattice", help="one of: sc, bcc, fcc")
+    rp.add_argument("--digits", type=_digits, default=50,
+                    help=f"significant digits, 1..{MAX_DIGITS} (default 50)")
+    g = rp.add_mutually_exclusive_group()
+    g.add_argument("--exact", action="store_true", help="print the exact form instead")
+    g.add_argument("--json", action="store_true", help="print one JSON object")
+
     t = sub.add_parser("table", help="compute, cross-check and write one table")
     t.add_argument("lattice")
     t.add_argument("--quantity", default="resistance", help=f"one of: {', '.join(QUANTITIES)}")
@@ -111,6 +120,19 @@ def _cmd_resistance(a: argparse.Namespace) -> int:
         if res.exact is None:
             raise InputError(f"no exact form is produced for site {res.canonical_site} "
                              "(beyond the exact range)")
+        print(res.exact)
+    else:
+        print(res.value)
+    return 0
+
+
+def _cmd_return_probability(a: argparse.Namespace) -> int:
+    res = return_probability(a.lattice, digits=a.digits)
+    if a.json:
+        d = res.to_json()
+        del d["site"], d["canonical_site"]
+        print(json.dumps(d))
+    elif a.exact:
         print(res.exact)
     else:
         print(res.value)
@@ -179,7 +201,8 @@ def _cmd_lattices(a: argparse.Namespace) -> int:
     return 0
 
 
-COMMANDS = {"resistance": _cmd_resistance, "table": _cmd_table, "check": _cmd_check,
+COMMANDS = {"resistance": _cmd_resistance, "return-probability": _cmd_return_probability,
+            "table": _cmd_table, "check": _cmd_check,
             "build": _cmd_build, "lattices": _cmd_lattices}
 
 

@@ -4,13 +4,14 @@ from __future__ import annotations
 
 from ..errors import InputError
 from .base import Lattice, Site
+from .cubic import BCC, FCC, SC
 from .square import SQUARE
 
-LATTICES: dict[str, Lattice] = {SQUARE.name: SQUARE}
+LATTICES: dict[str, Lattice] = {lat.name: lat for lat in (SQUARE, SC, BCC, FCC)}
 
 # Lattices the project plans (see DEVELOPERS.md); named in error messages so that a user
 # asking for one learns it is not there yet rather than that it does not exist.
-PLANNED = ("triangular", "honeycomb", "sc", "bcc", "fcc")
+PLANNED = ("triangular", "honeycomb")
 
 
 def get_lattice(name: str) -> Lattice:

@@ -20,12 +20,16 @@ from ..exact.forms import ExactForm
 from ..lattices import Site, get_lattice
 from ..rounding import Rounded, agreement_digits, round_interval
 from .base import Batch, Provider
+from .cubic_resistance import BCC_RESISTANCE, FCC_RESISTANCE, SC_RESISTANCE
 from .square_resistance import SQUARE_RESISTANCE
 
 MAX_DIGITS = 1000
 QUANTITIES = ("resistance",)
 PROVIDERS: dict[tuple[str, str], Provider] = {
     ("square", "resistance"): SQUARE_RESISTANCE,
+    ("sc", "resistance"): SC_RESISTANCE,
+    ("bcc", "resistance"): BCC_RESISTANCE,
+    ("fcc", "resistance"): FCC_RESISTANCE,
 }
 
 
@@ -132,9 +136,14 @@ def resistance(lattice: str, site: Sequence[object], digits: int = 50) -> Result
             raise VerificationError(
                 f"{lat.name} resistance at {c}: recurrence and quadrature agree to only "
                 f"{agree} of {digits} digits")
+        notes: tuple[str, ...] = ()
+        if form.how == "identified":
+            notes = ("the exact form rests on seed values identified by integer-relation "
+                     f"search and verified to {form.verified_digits} digits (conjectural "
+                     "beyond); the printed digits are confirmed by the quadrature",)
         return Result(**common, value=str(ev.rounded), exact=form,
                       error_bound=ev.rounded.half_ulp(), methods=("recurrence", "quadrature"),
-                      agreement_digits=agree)
+                      agreement_digits=agree, notes=notes)
     return _far_site(provider, c, digits, common)
 
 
@@ -176,5 +185,17 @@ def _far_site(provider: Provider, c: Site, digits: int, common: dict[str, Any]) 
                          f"{min(agree, digits)} digits",))
 
 
+def return_probability(lattice: str, digits: int = 50) -> Result:
+    """Polya's return probability P = 1 - 1/(z G(z; 0)) of a cubic lattice (sc, bcc, fcc),
+    by the Gamma-function closed form, confirmed by quadrature of G(z; 0).
+
+    >>> return_probability("bcc", digits=20).value
+    '0.28222998895387000218'
+    """
+    from .polya import return_probability as rp
+
+    return rp(lattice, digits)
+
+
 __all__ = ["MAX_DIGITS", "PROVIDERS", "Batch", "Provider", "Result", "check_digits",
-           "get_provider", "resistance"]
+           "get_provider", "resistance", "return_probability"]

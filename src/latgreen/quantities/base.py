@@ -27,11 +27,17 @@ class Batch:
     dens: tuple[int, ...]
     basis: tuple[Constant, ...]
     how: str = "derived"
+    hows: list[str] | None = None  # per site, where they differ (then ``how`` is unused)
+    verified: list[int | None] | None = None  # per site: digits an identified seed has
 
     def form(self, k: int) -> ExactForm:
-        from ..exact.forms import form_from_integers
+        from ..exact.forms import ExactForm, form_from_integers
 
-        return form_from_integers(self.nums[k], self.dens, self.basis, self.how)
+        f = form_from_integers(self.nums[k], self.dens, self.basis,
+                               self.how if self.hows is None else self.hows[k])
+        if self.verified is not None and self.verified[k] is not None:
+            f = ExactForm(f.coeffs, f.basis, f.how, self.verified[k])
+        return f
 
 
 @dataclass
@@ -49,6 +55,11 @@ class Provider:
     lattice: Lattice
     quantity: str
     exact_limit: int  # largest extent for which exact forms are produced on request
+    table_limit: int | None = None  # largest table extent (None: memory decides)
+    # how the table descriptor describes the methods
+    primary_text = ("recurrence: exact forms derived from proven seeds and the lattice "
+                    "equation, evaluated in fixed point with a proven error term")
+    check_text = "quadrature of the reduced one-dimensional integral"
 
     def batches(self, extent: int) -> Iterator[Batch]:
         raise NotImplementedError
@@ -78,6 +89,10 @@ class Provider:
         """The sites of each batch, in order, without computing anything (for planning)."""
         for b in self.batches(extent):
             yield b.sites
+
+    def batch_count(self, extent: int) -> int:
+        """Number of batches of a table to ``extent`` (for the sampling of ``fast`` checks)."""
+        return sum(1 for _ in self.batch_sites(extent))
 
     def quad_sites(self, sites: list[Site], digits: int) -> list[mpmath.mpf]:
         """High-precision independent values for the sites of one batch."""

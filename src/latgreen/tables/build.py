@@ -49,10 +49,16 @@ def choose_verify(mode: str, sites: int, digits: int) -> str:
     return "full" if sites * digits <= FULL_AUTO_LIMIT else "fast"
 
 
-def sampled(key: int, extent: int) -> bool:
-    """The batches a ``fast`` build checks at full precision: the first ten, the middle one
-    and the last."""
-    return key <= 10 or key == extent or key == extent // 2
+def sampled(key: int, count: int) -> bool:
+    """The batches (of ``count``, numbered from 0) a ``fast`` build checks at full
+    precision: the first eleven, the middle one and the last.  (For the square lattice,
+    whose batches are the columns m = 0..extent, this is m <= 10, m = extent // 2 and
+    m = extent; the 3-D lattices batch by columns (l, m), so the sample stays small.)
+
+    >>> [k for k in range(30) if sampled(k, 30)]
+    [0, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 14, 29]
+    """
+    return key <= 10 or key == count - 1 or key == (count - 1) // 2
 
 
 def default_workers() -> int:
@@ -98,8 +104,9 @@ def rows(provider: Provider, extent: int, digits: int, verify: str, with_exact: 
     """Yield the verified rows of batches ``start`` <= index < ``stop``, in site order, one
     block per batch, computed in this process."""
     name, quantity = provider.lattice.name, provider.quantity
+    count = provider.batch_count(extent) if verify != "full" else 0
     for bi, eb in provider.evaluated_batches(extent, digits, with_exact, start, stop):
-        full = verify == "full" or sampled(bi, extent)
+        full = verify == "full" or sampled(bi, count)
         checks = check_job((name, quantity, eb.sites, digits, full))
         yield _block(provider, eb, checks, full, digits, with_exact)
         if on_batch is not None:

@@ -53,6 +53,11 @@ def check_extent(provider: Provider, extent: object) -> int:
         raise InputError(f"extent must be >= 0, got {extent}")
     if extent > MAX_EXTENT:
         raise InputError(f"extent {extent} is beyond the ceiling of {MAX_EXTENT}")
+    limit = provider.table_limit
+    if limit is not None and extent > limit:
+        raise InputError(f"extent {extent} is beyond the largest {provider.lattice.name} "
+                         f"{provider.quantity} table of extent {limit} (exact forms are "
+                         "produced up to there)")
     need = provider.memory_estimate(extent)
     have = available_memory()
     if need > have:
@@ -102,9 +107,8 @@ def make_table(req: TableRequest) -> dict[str, Any]:
         "verify": verify,
         "region": f"canonical sites up to extent {extent} ({sites} sites)",
         "methods": {
-            "primary": "recurrence: exact forms derived from proven seeds and the lattice "
-                       "equation, evaluated in fixed point with a proven error term",
-            "check": "quadrature of the reduced one-dimensional integral"
+            "primary": provider.primary_text,
+            "check": provider.check_text
                      + (" at full digits for every row" if verify == "full" else
                         " in float64 for every row, at full digits for sampled batches"),
         },
@@ -168,18 +172,24 @@ def check_region(lattice: str, extent: int, digits: int, quantity: str = "resist
     return CheckReport(total, worst, worst_site, failures, far)
 
 
-CATALOGUE = (
-    # (lattice, quantity, extent, digits)
+CATALOGUE: tuple[tuple[Any, ...], ...] = (
+    # (lattice, quantity, extent, digits[, verify]); verify defaults to "full".  The cubic
+    # tables use "fast": a 50-digit quadrature costs about a second per column (l, m) there,
+    # so every row gets the float64 check (14 digits) and the sampled columns all 50 digits.
     ("square", "resistance", 100, 50),
+    ("sc", "resistance", 20, 50, "fast"),
+    ("bcc", "resistance", 20, 50, "fast"),
+    ("fcc", "resistance", 20, 50, "fast"),
 )
 
 
 def build_catalogue(root: Path, progress: bool = True) -> list[dict[str, Any]]:
     """Build every table of the default catalogue into ``root/<table-id>/``."""
     out = []
-    for lattice, quantity, extent, digits in CATALOGUE:
+    for lattice, quantity, extent, digits, *rest in CATALOGUE:
+        verify = rest[0] if rest else "full"
         req = TableRequest(lattice, quantity, extent, digits, root / table_id(lattice, quantity),
-                           force=True, verify="full", progress=progress)
+                           force=True, verify=verify, progress=progress)
         out.append(make_table(req))
     return out
 
