@@ -286,3 +286,21 @@ def test_bad_input_one_line_exit_2(args, needle, tmp_path):
     lines = p.stderr.strip().splitlines()
     assert len(lines) == 1 and needle in lines[0], p.stderr
     assert not any(tmp_path.iterdir())
+
+
+def test_return_probability_table(tmp_path):
+    # one row per lattice, through the same export as the site tables; sc against A086230
+    import csv
+
+    from latgreen.tables.make import make_return_probability_table
+
+    d = make_return_probability_table(tmp_path / "rp", ("sc", "bcc", "fcc"), 30)
+    assert d["name"] == "cubic-return-probability"
+    assert d["latgreen"]["cross_check"] == {"rows": 3, "rows_checked_at_full_digits": 3,
+                                            "min_agreement_digits": 30}
+    with open(tmp_path / "rp" / "values.csv", newline="") as f:
+        rows = {r["lattice"]: r for r in csv.DictReader(f)}
+    assert list(rows) == ["bcc", "fcc", "sc"]
+    _digits_agree(rows["sc"]["value"], A086230[:32])  # OEIS A086230
+    data = json.loads((tmp_path / "rp" / "values.json").read_text())
+    assert data["fields"][0] == "lattice" and len(data["rows"]) == 3

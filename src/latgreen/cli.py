@@ -22,7 +22,14 @@ from . import __version__
 from .errors import InputError, LatgreenError, PrecisionError, VerificationError
 from .lattices import LATTICES
 from .quantities import MAX_DIGITS, QUANTITIES, resistance, return_probability
-from .tables.make import CATALOGUE, TableRequest, build_catalogue, check_region, make_table
+from .tables.make import (
+    CATALOGUE,
+    SCALAR_TABLES,
+    TableRequest,
+    build_catalogue,
+    check_region,
+    make_table,
+)
 
 
 class _Parser(argparse.ArgumentParser):
@@ -172,7 +179,9 @@ def _cmd_check(a: argparse.Namespace) -> int:
 def _cmd_build(a: argparse.Namespace) -> int:
     out = Path(a.out)
     before = {}
-    for lattice, quantity, *_ in CATALOGUE:
+    names = [(lattice, quantity) for lattice, quantity, *_ in CATALOGUE]
+    names += [("cubic", quantity) for quantity, *_ in SCALAR_TABLES]
+    for lattice, quantity in names:
         pkg = out / f"{lattice}-{quantity}" / "datapackage.json"
         if pkg.is_file():
             with contextlib.suppress(ValueError, KeyError, TypeError):
