@@ -24,7 +24,7 @@ table: the basis is (1, K, 1/(pi^2 K)) with K the Gamma part of g, g = a K, a ra
 so 1/(pi^2 g) = (1/a) / (pi^2 K).  (A short name such as ``W_sc`` would parse in sympy only
 as an unknown symbol; the Gamma expression parses to the number itself.)
 
-**Relations (proofs in the module notes of the derivation, summarised).**
+**Relations (each an identity; the proofs in brief).**
 (L) the lattice equation z G(s) - sum_e G(s + e) = delta_{s,0};
 (E1) with L(s) = (2 pi)^-3 int e^{ik.s} ln(z - eps(k)) d^3k, integrating the k_i-derivative
 of e^{ik.s} ln(z - eps) over a period gives  s_i L(s) = sum_e e_i G(s + e)  for every

@@ -73,6 +73,6 @@ class CubicResistance(Provider):
         return sites * per_row
 
 
-SC_RESISTANCE = CubicResistance(exact_cubic.SC, 60)
+SC_RESISTANCE = CubicResistance(exact_cubic.SC, 40)
 BCC_RESISTANCE = CubicResistance(exact_cubic.BCC, 40)
 FCC_RESISTANCE = CubicResistance(exact_cubic.FCC, 30)
