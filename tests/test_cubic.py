@@ -304,3 +304,21 @@ def test_return_probability_table(tmp_path):
     _digits_agree(rows["sc"]["value"], A086230[:32])  # OEIS A086230
     data = json.loads((tmp_path / "rp" / "values.json").read_text())
     assert data["fields"][0] == "lattice" and len(data["rows"]) == 3
+
+
+def test_sc_seeds_are_the_values_that_make_g_decay():
+    # our own check of the two identified sc seeds without quadrature: the recursion's
+    # solutions that grow (coefficients of sigma_1, sigma_2 near 10^17 at l = 20) must be absent, so
+    # solving G(20,0,0) and G(20,20,20) = far field for the seed corrections gives ~0
+    G = exact_cubic.green_vectors("sc", 20)
+    with mpmath.workdps(60):
+        g = mpmath.mpf(_ball(exact_cubic.watson("sc"), 60))
+        rows, rhs = [], []
+        for s in ((20, 0, 0), (20, 20, 20)):
+            v = [mpmath.mpf(x.numerator) / x.denominator for x in G[s]]
+            base = v[0] * g + v[1] / (mpmath.pi**2 * g) + v[2]
+            rows.append([v[3], v[4]])
+            rhs.append(cubic_asymptotic.green_asymptotic("sc", s, 40) - base)
+        assert max(abs(x) for r in rows for x in r) > 10**17  # the growing solutions
+        sigma = mpmath.lu_solve(mpmath.matrix(rows), mpmath.matrix(rhs))
+        assert abs(sigma[0]) < 1e-20 and abs(sigma[1]) < 1e-20

@@ -56,6 +56,8 @@ class Provider:
     quantity: str
     exact_limit: int  # largest extent for which exact forms are produced on request
     table_limit: int | None = None  # largest table extent (None: memory decides)
+    parallel_min_sites = 3000  # a worker pool pays off from this many rows
+    full_auto_limit = 2_000_000  # --verify auto: full while sites x digits stays below this
     # how the table descriptor describes the methods
     primary_text = ("recurrence: exact forms derived from proven seeds and the lattice "
                     "equation, evaluated in fixed point with a proven error term")

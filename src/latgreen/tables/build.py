@@ -40,13 +40,14 @@ from .workers import check_job, init_worker, unit_job
 FAST_MIN_AGREEMENT = 12
 FLOAT_MAX_AGREEMENT = 15  # a float64 check cannot confirm more than this
 FULL_AUTO_LIMIT = 2_000_000  # "auto" picks full when sites * digits stays below this
-PARALLEL_MIN_SITES = 3000  # below this a worker pool costs more than it saves
 
 
-def choose_verify(mode: str, sites: int, digits: int) -> str:
+def choose_verify(mode: str, sites: int, digits: int, limit: int = FULL_AUTO_LIMIT) -> str:
+    """``auto`` is ``full`` while sites x digits <= ``limit`` (a provider's own limit where
+    its checks cost more per row), else ``fast``."""
     if mode != "auto":
         return mode
-    return "full" if sites * digits <= FULL_AUTO_LIMIT else "fast"
+    return "full" if sites * digits <= limit else "fast"
 
 
 def sampled(key: int, count: int) -> bool:
@@ -142,7 +143,7 @@ def chunks(provider: Provider, extent: int, digits: int, verify: str, with_exact
     to pay for it) contiguous work units run in a pool of forked workers, which report
     progress through a queue; the text is the same whatever the split."""
     total = provider.lattice.region_size(extent)
-    if workers <= 1 or total < PARALLEL_MIN_SITES:
+    if workers <= 1 or total < provider.parallel_min_sites:
         for blk in rows(provider, extent, digits, verify, with_exact, on_batch=on_rows):
             yield render(blk)
         return
