@@ -322,3 +322,43 @@ def test_sc_seeds_are_the_values_that_make_g_decay():
         assert max(abs(x) for r in rows for x in r) > 10**17  # the growing solutions
         sigma = mpmath.lu_solve(mpmath.matrix(rows), mpmath.matrix(rhs))
         assert abs(sigma[0]) < 1e-20 and abs(sigma[1]) < 1e-20
+
+
+def test_check_exits_one_on_an_injected_disagreement(monkeypatch, capsys):
+    # a wrong independent value at one fcc site: `check` must report it and exit 1
+    from latgreen import cli
+    from latgreen.quantities.cubic_resistance import CubicResistance
+
+    real = CubicResistance.quad_sites
+
+    def skewed(self, sites, digits):
+        out = real(self, sites, digits)
+        with mpmath.workdps(60):
+            return [q * (1 + mpmath.mpf(10) ** -15) if s == (2, 1, 1) else q
+                    for q, s in zip(out, sites, strict=True)]
+
+    monkeypatch.setattr(CubicResistance, "quad_sites", skewed)
+    code = cli.main(["check", "fcc", "--extent", "2", "--digits", "25", "--quiet"])
+    out = capsys.readouterr().out
+    assert code == 1 and "(2, 1, 1): recurrence vs quadrature agree to" in out
+
+
+def test_cubic_table_files(tmp_path):
+    # a small fcc table through the command line: columns, sites, labels, checks
+    import csv
+
+    out = tmp_path / "t"
+    p = run_cli("table", "fcc", "--extent", "4", "--digits", "20", "--out", str(out),
+                "--quiet", "--workers", "1")
+    assert p.returncode == 0, p.stderr
+    with open(out / "values.csv", newline="") as f:
+        rows = list(csv.DictReader(f))
+    lat = get_lattice("fcc")
+    assert [tuple(int(r[c]) for c in "lmn") for r in rows] == list(lat.region(4))
+    how = {tuple(int(r[c]) for c in "lmn"): r["exact_how"] for r in rows}
+    assert how[(0, 0, 0)] == how[(1, 1, 0)] == "derived"  # origin; R = 2/z, common practice
+    assert {how[s] for s in how if s not in ((0, 0, 0), (1, 1, 0))} == {"identified"}
+    assert all(r["agreement_digits"] == "20" for r in rows)
+    desc = json.loads((out / "datapackage.json").read_text())
+    assert desc["latgreen"]["verify"] == "full"  # auto: small enough
+    assert "identified" in desc["latgreen"]["methods"]["primary"]

@@ -63,8 +63,9 @@ class CubicResistance(Provider):
         return cubic_asymptotic.resistance_asymptotic(self.lattice.name, site, digits)  # type: ignore[arg-type]
 
     def memory_estimate(self, extent: int) -> int:
-        # the exact tables: per site five rationals of up to ~2.5 extent digits each
-        sites = self.lattice.region_size(min(extent, 10_000))
+        # the exact tables: per site five rationals of up to ~2.5 extent digits each; at
+        # most (extent + 1)^3 / 6 canonical sites (sc; bcc and fcc have fewer)
+        sites = (extent + 1) ** 3 // 6 + extent + 1
         return int(sites * (5 * 2 * (2.5 * extent / 2.4 + 60) + 400)) + 100_000_000
 
     def output_estimate(self, extent: int, digits: int, with_exact: bool) -> int:
