@@ -279,6 +279,9 @@ def test_cli_resistance_and_return_probability():
     (("return-probability", "square"), "available for sc, bcc, fcc"),
     (("return-probability", "sc", "--digits", "0"), "positive"),
     (("table", "fcc", "--extent", "31", "--out", "x"), "beyond the largest"),
+    (("resistance", "sc", "1", "1", "0", "--digits", "301"), "at most 300 digits"),
+    (("return-probability", "bcc", "--digits", "1000"), "at most 300 digits"),
+    (("table", "bcc", "--extent", "2", "--digits", "400", "--out", "x"), "at most 300"),
 ])
 def test_bad_input_one_line_exit_2(args, needle, tmp_path):
     p = run_cli(*args, cwd=tmp_path)

@@ -346,7 +346,7 @@ def green_vectors(lattice: str, extent: int) -> dict[Site, Vec]:
     """G(z; s) for the canonical sites with l <= extent, as (g, 1/(pi^2 g), 1, sigma_1,
     sigma_2) coefficients (cached and grown on demand; the dict is shared: do not modify).
 
-    >>> green_vectors("sc", 2)[(2, 0, 0)][:3]
+    >>> green_vectors("sc", 2)[(2, 0, 0)][:3]  # also found alone by PSLQ (our own check)
     (Fraction(5, 3), Fraction(1, 1), Fraction(-1, 1))
     """
     t = _TABLES.get(lattice)
@@ -385,7 +385,7 @@ def resistance_vector(lattice: str, site: Site) -> tuple[tuple[Fraction, ...], s
 def resistance_form(lattice: str, site: Site) -> ExactForm:
     """Exact R(site) for a canonical site.
 
-    >>> str(resistance_form("bcc", (1, 1, 1)))
+    >>> str(resistance_form("bcc", (1, 1, 1)))  # 2/z: common practice
     '1/4'
     >>> f = resistance_form("sc", (1, 1, 0))
     >>> f.how, f.verified_digits

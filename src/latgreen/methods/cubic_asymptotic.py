@@ -66,7 +66,7 @@ def resistance_asymptotic(lattice: str, site: tuple[int, int, int],
                           digits: int) -> tuple[mpmath.mpf, mpmath.mpf]:
     """(value, error estimate) of R(site) by the far-field expansion, r >= MIN_R.
 
-    >>> v, e = resistance_asymptotic("sc", (30, 0, 0), 20)
+    >>> v, e = resistance_asymptotic("sc", (30, 0, 0), 20)  # our own value
     >>> print(mpmath.nstr(v, 12), mpmath.nstr(e, 3))
     0.500155376583 9.14e-11
     """

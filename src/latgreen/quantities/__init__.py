@@ -117,7 +117,7 @@ def resistance(lattice: str, site: Sequence[object], digits: int = 50) -> Result
     ('0.880751588151456963579102076757', '46/(3*pi) - 4', ('recurrence', 'quadrature'))
     """
     provider = get_provider(lattice, "resistance")
-    digits = check_digits(digits)
+    digits = provider.check_digits(check_digits(digits))
     lat = provider.lattice
     s = lat.site(site)
     c = lat.canonical(s)
@@ -189,7 +189,7 @@ def return_probability(lattice: str, digits: int = 50) -> Result:
     """Polya's return probability P = 1 - 1/(z G(z; 0)) of a cubic lattice (sc, bcc, fcc),
     by the Gamma-function closed form, confirmed by quadrature of G(z; 0).
 
-    >>> return_probability("bcc", digits=20).value
+    >>> return_probability("bcc", digits=20).value  # 1 - 1/W_bcc, W_bcc: OEIS A091670
     '0.28222998895387000218'
     """
     from .polya import return_probability as rp

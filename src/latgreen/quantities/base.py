@@ -58,6 +58,17 @@ class Provider:
     table_limit: int | None = None  # largest table extent (None: memory decides)
     parallel_min_sites = 3000  # a worker pool pays off from this many rows
     full_auto_limit = 2_000_000  # --verify auto: full while sites x digits stays below this
+    max_digits: int | None = None  # below the global ceiling where the check is costly
+
+    def check_digits(self, digits: int) -> int:
+        """Refuse digits the independent check cannot confirm in reasonable time."""
+        if self.max_digits is not None and digits > self.max_digits:
+            from ..errors import InputError
+
+            raise InputError(f"{self.lattice.name} {self.quantity}: at most {self.max_digits} "
+                             f"digits (the quadrature that confirms them grows too costly "
+                             f"beyond), got {digits}")
+        return digits
     # how the table descriptor describes the methods
     primary_text = ("recurrence: exact forms derived from proven seeds and the lattice "
                     "equation, evaluated in fixed point with a proven error term")

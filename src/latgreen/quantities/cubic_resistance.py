@@ -23,6 +23,7 @@ class CubicResistance(Provider):
                     "fixed point with a proven error term")
     check_text = "polar Gauss-Legendre quadrature of the reduced two-dimensional integral"
     parallel_min_sites = 100  # a 50-digit check costs about a second per column
+    max_digits = 300  # 300 digits: 384^2 nodes per triangle, about 10 s per column
     full_auto_limit = 20_000  # e.g. sc to extent 11 at 50 digits: about a minute, 2 cores
 
     def __init__(self, lattice: Lattice, exact_limit: int) -> None:

@@ -30,6 +30,7 @@ if TYPE_CHECKING:
     from . import Result
 
 LATTICES = ("sc", "bcc", "fcc")
+MAX_DIGITS = 300
 
 
 def inverse_constant(lattice: str) -> Constant:
@@ -54,7 +55,7 @@ def return_probability_form(lattice: str) -> ExactForm:
 def return_probability(lattice: str, digits: int = 50) -> Result:
     """Polya's return probability of the simple random walk on a cubic lattice.
 
-    >>> r = return_probability("sc", digits=30)
+    >>> r = return_probability("sc", digits=30)  # OEIS A086230
     >>> r.value, r.methods
     ('0.340537329550999142826273184433', ('closed-form', 'quadrature'))
     """
@@ -65,6 +66,9 @@ def return_probability(lattice: str, digits: int = 50) -> Result:
         raise InputError(f"the return probability is available for {', '.join(LATTICES)} "
                          f"(a walk on the {lat.name} lattice returns with probability 1)")
     digits = check_digits(digits)
+    if digits > MAX_DIGITS:
+        raise InputError(f"return probability: at most {MAX_DIGITS} digits (the quadrature "
+                         f"that confirms them grows too costly beyond), got {digits}")
     form = return_probability_form(lat.name)
     ev = evaluate_form(form, digits)
     g0 = mpf_fraction(cubic_quadrature.green_origin(lat.name, digits + 5))

@@ -83,7 +83,7 @@ class TableRequest:
 def make_table(req: TableRequest) -> dict[str, Any]:
     """Validate everything, then compute, cross-check and write one table."""
     provider = get_provider(req.lattice, req.quantity)
-    digits = check_digits(req.digits)
+    digits = provider.check_digits(check_digits(req.digits))
     extent = check_extent(provider, req.extent)
     if req.verify not in ("auto", "full", "fast"):
         raise InputError(f"verify must be auto, full or fast, got {req.verify!r}")
@@ -140,7 +140,7 @@ def check_region(lattice: str, extent: int, digits: int, quantity: str = "resist
     against the quadrature for every site, and against the far-field expansion (within its
     error estimate) for every site where the expansion applies."""
     provider = get_provider(lattice, quantity)
-    digits = check_digits(digits)
+    digits = provider.check_digits(check_digits(digits))
     extent = check_extent(provider, extent)
     lat = provider.lattice
     total = lat.region_size(extent)
