@@ -81,7 +81,9 @@ Vec = tuple[Fraction, ...]  # (g, 1/(pi^2 g), 1, sigma_1, sigma_2)
 NV = 5
 
 
-def _gamma_product(lattice: str) -> Callable[[], flint.arb]:
+def gamma_product(lattice: str) -> Callable[[], flint.arb]:
+    """K, the Gamma part of the Watson integral (g = WATSON_SCALE * K), as a function giving
+    a python-flint ball at the caller's precision."""
     q, G = flint.fmpq, flint.arb.gamma_fmpq
 
     def sc() -> flint.arb:
@@ -97,7 +99,8 @@ def _gamma_product(lattice: str) -> Callable[[], flint.arb]:
     return {"sc": sc, "bcc": bcc, "fcc": fcc}[lattice]
 
 
-_GAMMA_TEXT = {
+# K printed as top/bottom in sympy syntax
+GAMMA_TEXT = {
     "sc": ("sqrt(6)*gamma(1/24)*gamma(5/24)*gamma(7/24)*gamma(11/24)", "pi**3"),
     "bcc": ("gamma(1/4)**4", "pi**3"),
     "fcc": ("gamma(1/3)**6", "2**(2/3)*pi**4"),
@@ -111,8 +114,8 @@ LATTICE = {"sc": SC, "bcc": BCC, "fcc": FCC}
 
 def _basis(lattice: str) -> tuple[Constant, Constant]:
     """K and 1/(pi^2 K) as printable constants (K = top/bottom, see the module docstring)."""
-    top, bottom = _GAMMA_TEXT[lattice]
-    k = _gamma_product(lattice)
+    top, bottom = GAMMA_TEXT[lattice]
+    k = gamma_product(lattice)
     # 1/(pi^2 K) = bottom/(pi^2 top): pi**3 -> pi, 2**(2/3)*pi**4 -> 2**(2/3)*pi**2
     inv_top = {"sc": "pi", "bcc": "pi", "fcc": "2**(2/3)*pi**2"}[lattice]
     K = Constant(_ratio(top, bottom), k, top=top, bottom=bottom)
@@ -140,7 +143,7 @@ def watson(lattice: str) -> Callable[[], flint.arb]:
     ...     flint.ctx.prec = old
     1.39320392968567685918424626033
     """
-    k = _gamma_product(lattice)
+    k = gamma_product(lattice)
     a = WATSON_SCALE[lattice]
     return lambda: k() * flint.fmpq(a.numerator, a.denominator)
 

@@ -19,7 +19,7 @@ from fractions import Fraction
 from typing import TYPE_CHECKING
 
 from ..errors import InputError, VerificationError
-from ..exact.cubic import _GAMMA_TEXT, WATSON_FACTOR, WATSON_SCALE, _gamma_product
+from ..exact.cubic import GAMMA_TEXT, WATSON_FACTOR, WATSON_SCALE, gamma_product
 from ..exact.evaluate import evaluate_form
 from ..exact.forms import ONE, Constant, ExactForm, compound
 from ..lattices import get_lattice
@@ -35,8 +35,8 @@ MAX_DIGITS = 300
 
 def inverse_constant(lattice: str) -> Constant:
     """1/K, K the Gamma part of the lattice's Watson integral."""
-    top, bottom = _GAMMA_TEXT[lattice]
-    k = _gamma_product(lattice)
+    top, bottom = GAMMA_TEXT[lattice]
+    k = gamma_product(lattice)
     name = f"{bottom}/({top})" if compound(top) else f"{bottom}/{top}"
     return Constant(name, lambda: 1 / k(), top=bottom, bottom=top)
 
