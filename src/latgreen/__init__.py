@@ -16,7 +16,8 @@ from typing import Any
 from ._version import __version__
 from .errors import InputError, LatgreenError, PrecisionError, VerificationError
 
-_LAZY = {"MAX_DIGITS", "GreenResult", "Result", "dos", "green", "local_dos", "resistance"}
+_LAZY = {"MAX_DIGITS", "GreenResult", "Result", "dos", "green", "local_dos", "resistance",
+         "return_probability"}
 
 
 def __getattr__(name: str) -> Any:
@@ -29,4 +30,4 @@ def __getattr__(name: str) -> Any:
 
 __all__ = ["MAX_DIGITS", "GreenResult", "InputError", "LatgreenError", "PrecisionError",
            "Result", "VerificationError", "__version__", "dos", "green", "local_dos",
-           "resistance"]
+           "resistance", "return_probability"]

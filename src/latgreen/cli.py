@@ -21,7 +21,7 @@ from tabulate import tabulate
 from . import __version__
 from .errors import InputError, LatgreenError, PrecisionError, VerificationError
 from .lattices import LATTICES
-from .quantities import MAX_DIGITS, QUANTITIES, dos, green, resistance
+from .quantities import MAX_DIGITS, QUANTITIES, dos, green, resistance, return_probability
 from .tables.make import (
     TableRequest,
     build_catalogue,
@@ -94,6 +94,15 @@ def _parser() -> argparse.ArgumentParser:
     d.add_argument("--digits", type=_digits, default=50,
                    help=f"significant digits, 1..{MAX_DIGITS} (default 50)")
     d.add_argument("--json", action="store_true", help="print one JSON object")
+
+    rp = sub.add_parser("return-probability",
+                        help="Polya's return probability of the random walk (sc, bcc, fcc)")
+    rp.add_argument("lattice", help="one of: sc, bcc, fcc")
+    rp.add_argument("--digits", type=_digits, default=50,
+                    help=f"significant digits, 1..{MAX_DIGITS} (default 50)")
+    g = rp.add_mutually_exclusive_group()
+    g.add_argument("--exact", action="store_true", help="print the exact form instead")
+    g.add_argument("--json", action="store_true", help="print one JSON object")
 
     t = sub.add_parser("table", help="compute, cross-check and write one table")
     t.add_argument("lattice")
@@ -192,6 +201,19 @@ def _cmd_green(a: argparse.Namespace) -> int:
     res = green(a.lattice, a.coords, energy=a.energy, digits=a.digits)
     if a.json:
         print(json.dumps(res.to_json()))
+    elif a.exact:
+        print(res.exact)
+    else:
+        print(res.value)
+    return 0
+
+
+def _cmd_return_probability(a: argparse.Namespace) -> int:
+    res = return_probability(a.lattice, digits=a.digits)
+    if a.json:
+        d = res.to_json()
+        del d["site"], d["canonical_site"]
+        print(json.dumps(d))
     elif a.exact:
         print(res.exact)
     else:
@@ -340,6 +362,7 @@ def _cmd_lattices(a: argparse.Namespace) -> int:
 
 
 COMMANDS = {"resistance": _cmd_resistance, "green": _cmd_green, "dos": _cmd_dos,
+            "return-probability": _cmd_return_probability,
             "table": _cmd_table, "check": _cmd_check, "build": _cmd_build,
             "audit": _cmd_audit, "verify": _cmd_verify, "regen": _cmd_regen,
             "lattices": _cmd_lattices}

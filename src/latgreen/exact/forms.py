@@ -21,10 +21,23 @@ class Constant:
 
     name: str  # sympy syntax, e.g. "1", "1/pi", "sqrt(3)/pi"
     ball: Callable[[], flint.arb]  # evaluated at the caller's flint precision
+    # for a quotient name such as "gamma(1/4)**4/pi**3": its two parts, so that a term
+    # prints as "5*gamma(1/4)**4/(24*pi**3)" rather than "5*gamma(1/4)**4/pi**3/24"
+    top: str | None = None
+    bottom: str | None = None
 
     def term(self, c: Fraction) -> str:
-        """Print ``|c| * self`` (sign handled by the caller) in sympy syntax."""
+        """Print ``|c| * self`` (sign handled by the caller) in sympy syntax.
+
+        >>> Constant("gamma(1/4)**4/pi**3", flint.arb, "gamma(1/4)**4", "pi**3").term(
+        ...     Fraction(-5, 24))
+        '5*gamma(1/4)**4/(24*pi**3)'
+        """
         p, q = abs(c.numerator), c.denominator
+        if self.top is not None and self.bottom is not None:
+            num = self.top if p == 1 else f"{p}*{self.top}"
+            den = self.bottom if q == 1 else f"{q}*{self.bottom}"
+            return f"{num}/({den})" if compound(den) else f"{num}/{den}"
         if self.name == "1":
             return f"{p}" if q == 1 else f"{p}/{q}"
         if self.name.startswith("1/"):
@@ -56,6 +69,23 @@ def _top_level_slash(text: str) -> int | None:
         elif ch == "/" and depth == 0:
             return i
     return None
+
+
+def compound(text: str) -> bool:
+    """True if ``text`` has a product or quotient outside parentheses (so that it needs
+    parentheses as a divisor); powers ``**`` do not count.
+
+    >>> compound("gamma(1/4)**4"), compound("2**(2/3)*pi**4")
+    (False, True)
+    """
+    depth = 0
+    t = text.replace("**", "^")
+    for ch in t:
+        depth += ch == "("
+        depth -= ch == ")"
+        if depth == 0 and ch in "*/":
+            return True
+    return False
 
 
 ONE = Constant("1", lambda: flint.arb(1))

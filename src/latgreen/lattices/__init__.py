@@ -4,17 +4,18 @@ from __future__ import annotations
 
 from ..errors import InputError
 from .base import Lattice, Site
+from .cubic import BCC, FCC, SC
 from .honeycomb import HONEYCOMB
 from .square import SQUARE
 from .triangular import TRIANGULAR
 
 LATTICES: dict[str, Lattice] = {
-    lat.name: lat for lat in (SQUARE, TRIANGULAR, HONEYCOMB)
+    lat.name: lat for lat in (SQUARE, TRIANGULAR, HONEYCOMB, SC, BCC, FCC)
 }
 
 # Lattices the project plans (see DEVELOPERS.md); named in error messages so that a user
 # asking for one learns it is not there yet rather than that it does not exist.
-PLANNED = ("sc", "bcc", "fcc")
+PLANNED: tuple[str, ...] = ()
 
 
 def get_lattice(name: str) -> Lattice:

@@ -43,7 +43,7 @@ class Lattice:
         """
         if len(coords) != len(self.coordinate_names):
             raise InputError(
-                f"a {self.name} site has {len(self.coordinate_names)} coordinates "
+                f"{self.name} sites have {len(self.coordinate_names)} coordinates "
                 f"({', '.join(self.coordinate_names)}), got {len(coords)}"
             )
         out = []

@@ -21,6 +21,7 @@ from ..exact.forms import ExactForm
 from ..lattices import Site, get_lattice
 from ..rounding import Rounded, agreement_digits, round_interval
 from .base import Batch, Provider
+from .cubic_resistance import BCC_RESISTANCE, FCC_RESISTANCE, SC_RESISTANCE
 from .honeycomb_resistance import HONEYCOMB_RESISTANCE
 from .square_green import SquareGreen
 from .square_resistance import SQUARE_RESISTANCE
@@ -30,6 +31,9 @@ MAX_DIGITS = 1000
 QUANTITIES = ("resistance", "green", "dos")
 PROVIDERS: dict[tuple[str, str], Provider] = {
     ("square", "resistance"): SQUARE_RESISTANCE,
+    ("sc", "resistance"): SC_RESISTANCE,
+    ("bcc", "resistance"): BCC_RESISTANCE,
+    ("fcc", "resistance"): FCC_RESISTANCE,
     ("triangular", "resistance"): TRIANGULAR_RESISTANCE,
     ("honeycomb", "resistance"): HONEYCOMB_RESISTANCE,
 }
@@ -135,7 +139,7 @@ def resistance(lattice: str, site: Sequence[object], digits: int = 50) -> Result
     ('0.880751588151456963579102076757', '46/(3*pi) - 4', ('recurrence', 'quadrature'))
     """
     provider = get_provider(lattice, "resistance")
-    digits = check_digits(digits)
+    digits = provider.check_digits(check_digits(digits))
     lat = provider.lattice
     s = lat.site(site)
     c = lat.canonical(s)
@@ -154,9 +158,14 @@ def resistance(lattice: str, site: Sequence[object], digits: int = 50) -> Result
             raise VerificationError(
                 f"{lat.name} resistance at {c}: recurrence and quadrature agree to only "
                 f"{agree} of {digits} digits")
+        notes: tuple[str, ...] = ()
+        if form.how == "identified":
+            notes = ("the exact form rests on seed values identified by integer-relation "
+                     f"search and verified to {form.verified_digits} digits (conjectural "
+                     "beyond); the printed digits are confirmed by the quadrature",)
         return Result(**common, value=str(ev.rounded), exact=form,
                       error_bound=ev.rounded.half_ulp(), methods=("recurrence", "quadrature"),
-                      agreement_digits=agree)
+                      agreement_digits=agree, notes=notes)
     return _far_site(provider, c, digits, common)
 
 
@@ -198,7 +207,20 @@ def _far_site(provider: Provider, c: Site, digits: int, common: dict[str, Any]) 
                          f"{min(agree, digits)} digits",))
 
 
+def return_probability(lattice: str, digits: int = 50) -> Result:
+    """Polya's return probability P = 1 - 1/(z G(z; 0)) of a cubic lattice (sc, bcc, fcc),
+    by the Gamma-function closed form, confirmed by quadrature of G(z; 0).
+
+    >>> return_probability("bcc", digits=20).value  # 1 - 1/W_bcc, W_bcc: OEIS A091670
+    '0.28222998895387000218'
+    """
+    from .polya import return_probability as rp
+
+    return rp(lattice, digits)
+
+
 from .green_api import GreenResult, dos, green, local_dos  # noqa: E402 - uses the above
 
 __all__ = ["MAX_DIGITS", "PROVIDERS", "Batch", "GreenResult", "Provider", "Result",
-           "check_digits", "dos", "get_provider", "green", "local_dos", "resistance"]
+           "check_digits", "dos", "get_provider", "green", "local_dos", "resistance",
+           "return_probability"]

@@ -27,11 +27,17 @@ class Batch:
     dens: tuple[int, ...]
     basis: tuple[Constant, ...]
     how: str = "derived"
+    hows: list[str] | None = None  # per site, where they differ (then ``how`` is unused)
+    verified: list[int | None] | None = None  # per site: digits an identified seed has
 
     def form(self, k: int) -> ExactForm:
-        from ..exact.forms import form_from_integers
+        from ..exact.forms import ExactForm, form_from_integers
 
-        return form_from_integers(self.nums[k], self.dens, self.basis, self.how)
+        f = form_from_integers(self.nums[k], self.dens, self.basis,
+                               self.how if self.hows is None else self.hows[k])
+        if self.verified is not None and self.verified[k] is not None:
+            f = ExactForm(f.coeffs, f.basis, f.how, self.verified[k])
+        return f
 
 
 @dataclass
@@ -52,6 +58,24 @@ class Provider:
     exact_limit: int  # largest extent for which exact forms are produced on request
     complex_valued = False  # rows carry a real and an imaginary part
     energy: object = None  # the energy a parametrised provider is bound to (an Energy)
+    table_limit: int | None = None  # largest table extent (None: memory decides)
+    parallel_min_sites = 3000  # a worker pool pays off from this many rows
+    full_auto_limit = 2_000_000  # --verify auto: full while sites x digits stays below this
+    max_digits: int | None = None  # below the global ceiling where the check is costly
+
+    def check_digits(self, digits: int) -> int:
+        """Refuse digits the independent check cannot confirm in reasonable time."""
+        if self.max_digits is not None and digits > self.max_digits:
+            from ..errors import InputError
+
+            raise InputError(f"{self.lattice.name} {self.quantity}: at most {self.max_digits} "
+                             f"digits (the quadrature that confirms them grows too costly "
+                             f"beyond), got {digits}")
+        return digits
+    # how the table descriptor describes the methods
+    primary_text = ("recurrence: exact forms derived from proven seeds and the lattice "
+                    "equation, evaluated in fixed point with a proven error term")
+    check_text = "quadrature of the reduced one-dimensional integral"
 
     def batches(self, extent: int) -> Iterator[Batch]:
         raise NotImplementedError
@@ -81,6 +105,10 @@ class Provider:
         """The sites of each batch, in order, without computing anything (for planning)."""
         for b in self.batches(extent):
             yield b.sites
+
+    def batch_count(self, extent: int) -> int:
+        """Number of batches of a table to ``extent`` (for the sampling of ``fast`` checks)."""
+        return sum(1 for _ in self.batch_sites(extent))
 
     def quad_sites(self, sites: list[Site], digits: int) -> list[mpmath.mpf]:
         """High-precision independent values for the sites of one batch."""

@@ -60,6 +60,9 @@ class SquareResistance(Provider):
         for m in range(extent + 1):
             yield [(m, n) for n in range(m + 1)]
 
+    def batch_count(self, extent: int) -> int:
+        return extent + 1
+
     def quad_sites(self, sites: list[Site], digits: int) -> list[mpmath.mpf]:
         m = sites[0][0]
         if m == 0:

@@ -40,19 +40,26 @@ from .workers import check_job, indexed_unit_job, init_worker
 FAST_MIN_AGREEMENT = 12
 FLOAT_MAX_AGREEMENT = 15  # a float64 check cannot confirm more than this
 FULL_AUTO_LIMIT = 2_000_000  # "auto" picks full when sites * digits stays below this
-PARALLEL_MIN_SITES = 3000  # below this a worker pool costs more than it saves
 
 
-def choose_verify(mode: str, sites: int, digits: int) -> str:
+def choose_verify(mode: str, sites: int, digits: int, limit: int = FULL_AUTO_LIMIT) -> str:
+    """``auto`` is ``full`` while sites x digits <= ``limit`` (a provider's own limit where
+    its checks cost more per row), else ``fast``."""
     if mode != "auto":
         return mode
-    return "full" if sites * digits <= FULL_AUTO_LIMIT else "fast"
+    return "full" if sites * digits <= limit else "fast"
 
 
-def sampled(key: int, extent: int) -> bool:
-    """The batches a ``fast`` build checks at full precision: the first ten, the middle one
-    and the last."""
-    return key <= 10 or key == extent or key == extent // 2
+def sampled(key: int, count: int) -> bool:
+    """The batches (of ``count``, numbered from 0) a ``fast`` build checks at full
+    precision: the first eleven, the middle one and the last.  (For the square lattice,
+    whose batches are the columns m = 0..extent, this is m <= 10, m = extent // 2 and
+    m = extent; the 3-D lattices batch by columns (l, m), so the sample stays small.)
+
+    >>> [k for k in range(30) if sampled(k, 30)]
+    [0, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 14, 29]
+    """
+    return key <= 10 or key == count - 1 or key == (count - 1) // 2
 
 
 def default_workers() -> int:
@@ -99,8 +106,9 @@ def rows(provider: Provider, extent: int, digits: int, verify: str, with_exact: 
     block per batch, computed in this process."""
     name, quantity = provider.lattice.name, provider.quantity
     energy = None if provider.energy is None else str(provider.energy)
+    count = provider.batch_count(extent) if verify != "full" else 0
     for bi, eb in provider.evaluated_batches(extent, digits, with_exact, start, stop):
-        full = verify == "full" or sampled(bi, extent)
+        full = verify == "full" or sampled(bi, count)
         checks = check_job((name, quantity, energy, eb.sites, digits, full))
         yield _block(provider, eb, checks, full, digits, with_exact)
         if on_batch is not None:
@@ -227,10 +235,11 @@ def _indexed_rows(provider: Provider, extent: int, digits: int, verify: str,
                   unit_of: dict[int, int]) -> Iterator[tuple[int, RowBlock]]:
     name, quantity = provider.lattice.name, provider.quantity
     energy = None if provider.energy is None else str(provider.energy)
+    count = provider.batch_count(extent) if verify != "full" else 0
     for bi, eb in provider.evaluated_batches(extent, digits, with_exact, start, stop):
         if unit_of[bi] not in want:
             continue
-        full = verify == "full" or sampled(bi, extent)
+        full = verify == "full" or sampled(bi, count)
         checks = check_job((name, quantity, energy, eb.sites, digits, full))
         yield bi, _block(provider, eb, checks, full, digits, with_exact)
 

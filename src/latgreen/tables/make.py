@@ -15,7 +15,6 @@ from ..progress import Progress
 from ..quantities import Provider, check_digits, get_provider, mpf_fraction
 from ..rounding import agreement_digits
 from .build import (
-    PARALLEL_MIN_SITES,
     choose_verify,
     default_workers,
     plan_units,
@@ -23,7 +22,7 @@ from .build import (
     unit_count,
 )
 from .checkpoint import Checkpoint
-from .export import check_output_dir, table_id, write_energy_table, write_table
+from .export import Keys, check_output_dir, table_id, write_energy_table, write_table
 
 MAX_EXTENT = 1_000_000
 
@@ -62,6 +61,11 @@ def check_extent(provider: Provider, extent: object) -> int:
         raise InputError(f"extent must be >= 0, got {extent}")
     if extent > MAX_EXTENT:
         raise InputError(f"extent {extent} is beyond the ceiling of {MAX_EXTENT}")
+    limit = provider.table_limit
+    if limit is not None and extent > limit:
+        raise InputError(f"extent {extent} is beyond the largest {provider.lattice.name} "
+                         f"{provider.quantity} table of extent {limit} (exact forms are "
+                         "produced up to there)")
     need = provider.memory_estimate(extent)
     have = available_memory()
     if need > have:
@@ -91,7 +95,7 @@ class TableRequest:
 def make_table(req: TableRequest) -> dict[str, Any]:
     """Validate everything, then compute, cross-check and write one table."""
     provider = get_provider(req.lattice, req.quantity, req.energy)
-    digits = check_digits(req.digits)
+    digits = provider.check_digits(check_digits(req.digits))
     extent = check_extent(provider, req.extent)
     if req.verify not in ("auto", "full", "fast"):
         raise InputError(f"verify must be auto, full or fast, got {req.verify!r}")
@@ -111,7 +115,8 @@ def make_table(req: TableRequest) -> dict[str, Any]:
                          f"{_gib(free)} free (try --no-exact to leave out the exact forms)")
     lat = provider.lattice
     sites = lat.region_size(extent)
-    verify = "full" if provider.complex_valued else choose_verify(req.verify, sites, digits)
+    verify = ("full" if provider.complex_valued else
+              choose_verify(req.verify, sites, digits, provider.full_auto_limit))
     energy = provider.energy
     tid = table_id(lat.name, req.quantity, energy)
     bar = Progress(sites, f"{tid} extent {extent}", enabled=req.progress)
@@ -120,9 +125,8 @@ def make_table(req: TableRequest) -> dict[str, Any]:
         "verify": verify, "version": req.version,
         "region": f"canonical sites up to extent {extent} ({sites} sites)",
         "methods": {
-            "primary": "recurrence: exact forms derived from proven seeds and the lattice "
-                       "equation, evaluated in fixed point with a proven error term",
-            "check": "quadrature of the reduced one-dimensional integral"
+            "primary": provider.primary_text,
+            "check": provider.check_text
                      + (" at full digits for every row" if verify == "full" else
                         " in float64 for every row, at full digits for sampled batches"),
         },
@@ -141,7 +145,7 @@ def make_table(req: TableRequest) -> dict[str, Any]:
     workers = default_workers() if req.workers is None else req.workers
     if workers < 1:
         raise InputError(f"workers must be at least 1, got {workers}")
-    if sites < PARALLEL_MIN_SITES and req.scheduler is None:
+    if sites < provider.parallel_min_sites and req.scheduler is None:
         workers = 1
     params = {"lattice": lat.name, "quantity": req.quantity, "extent": extent,
               "digits": digits, "verify": verify, "with_exact": req.with_exact}
@@ -227,7 +231,7 @@ def check_region(lattice: str, extent: int, digits: int, quantity: str = "resist
         raise InputError(f"check covers the resistance quantity; a {quantity} table checks "
                          "every row against the quadrature while it is built")
     provider = get_provider(lattice, quantity)
-    digits = check_digits(digits)
+    digits = provider.check_digits(check_digits(digits))
     extent = check_extent(provider, extent)
     lat = provider.lattice
     total = lat.region_size(extent)
@@ -259,12 +263,59 @@ def check_region(lattice: str, extent: int, digits: int, quantity: str = "resist
     return CheckReport(total, worst, worst_site, failures, far)
 
 
-CATALOGUE = (
-    # (lattice, quantity, extent, digits)
+CATALOGUE: tuple[tuple[Any, ...], ...] = (
+    # (lattice, quantity, extent, digits[, verify]); verify defaults to "full".  The cubic
+    # tables say it explicitly: a 50-digit quadrature costs about a second per column (l, m)
+    # there, yet on two worker processes the three tables check every row at 50 digits in a
+    # few minutes (their exact forms rest on identified seeds, so every row's independent
+    # check is worth its time); "fast" would take seconds.
     ("square", "resistance", 100, 50),
     ("triangular", "resistance", 60, 50),
     ("honeycomb", "resistance", 60, 50),
+    ("sc", "resistance", 20, 50, "full"),
+    ("bcc", "resistance", 20, 50, "full"),
+    ("fcc", "resistance", 20, 50, "full"),
 )
+
+
+# tables with one row per lattice: (quantity, lattices, digits)
+SCALAR_TABLES: tuple[tuple[str, tuple[str, ...], int], ...] = (
+    ("return-probability", ("sc", "bcc", "fcc"), 50),
+)
+
+
+def make_return_probability_table(out: Path, lattices: tuple[str, ...], digits: int,
+                                  force: bool = False, version: str = "1") -> dict[str, Any]:
+    """Polya's return probabilities, one row per lattice (sorted by name), written through
+    the same export as the site tables: each value by the closed form, confirmed by the
+    quadrature of G(z; 0) to all its digits."""
+    from ..quantities import return_probability
+    from .render import Chunk
+
+    digits = check_digits(digits)
+    check_output_dir(Path(out), force)
+    csv, js, agrees = [], [], []
+    for lat in sorted(lattices):
+        r = return_probability(lat, digits)
+        row = (lat, r.value, str(r.exact), r.exact.how if r.exact else "", r.error_bound,
+               ";".join(r.methods), r.agreement_digits)
+        csv.append(",".join(map(str, row)) + "\n")
+        js.append(',\n["{}","{}","{}","{}","{}","{}",{}]'.format(*row))
+        agrees.append(r.agreement_digits)
+    keys = sorted(lattices)
+    chunk = Chunk(csv="".join(csv), json="".join(js), rows=len(keys), first=(keys[0],),
+                  last=(keys[-1],), min_agreement=min(agrees), full_rows=len(keys))
+    meta = {"lattice": "cubic", "quantity": "return-probability", "extent": None,
+            "digits": digits, "verify": "full", "version": version,
+            "region": f"one row per lattice: {', '.join(keys)}",
+            "methods": {"primary": "closed form P = 1 - 1/(z G(z; 0)) with G(z; 0) from "
+                                   "Watson's integral in Gamma values, evaluated in fixed "
+                                   "point with a proven error term",
+                        "check": "polar Gauss-Legendre quadrature of G(z; 0) at full digits"}}
+    keys_t = Keys("cubic", ("lattice",), "lattice name (conventions in the README)",
+                  f"Polya's return probability of the random walk on the {', '.join(keys)} "
+                  f"lattices, {digits} digits")
+    return write_table(Path(out), keys_t, "return-probability", [chunk], meta, force=force)
 
 
 def build_catalogue(root: Path, progress: bool = True) -> list[tuple[str, dict[str, Any]]]:
@@ -273,14 +324,23 @@ def build_catalogue(root: Path, progress: bool = True) -> list[tuple[str, dict[s
     from .versions import publish
 
     out = []
-    for lattice, quantity, extent, digits in CATALOGUE:
+    for lattice, quantity, extent, digits, *rest in CATALOGUE:
+        verify = rest[0] if rest else "full"
+
         def build(staging: Path, version: str, lattice: str = lattice, quantity: str = quantity,
-                  extent: int = extent, digits: int = digits) -> dict[str, Any]:
-            req = TableRequest(lattice, quantity, extent, digits, staging, verify="full",
+                  extent: int = extent, digits: int = digits,
+                  verify: str = verify) -> dict[str, Any]:
+            req = TableRequest(lattice, quantity, extent, digits, staging, verify=verify,
                                progress=progress, version=version)
             return make_table(req)
 
         out.append(publish(root, table_id(lattice, quantity), build))
+    for quantity, lattices, digits in SCALAR_TABLES:
+        def build_scalar(staging: Path, version: str, lattices: tuple[str, ...] = lattices,
+                         digits: int = digits) -> dict[str, Any]:
+            return make_return_probability_table(staging, lattices, digits, version=version)
+
+        out.append(publish(root, table_id("cubic", quantity), build_scalar))
     return out
 
 
@@ -316,5 +376,6 @@ def make_dos_table(lattice: str, energies: str, digits: int, out: Path, force: b
     return d
 
 
-__all__ = ["CATALOGUE", "CheckReport", "TableRequest", "VerificationError", "build_catalogue",
-           "check_region", "make_dos_table", "make_table"]
+__all__ = ["CATALOGUE", "SCALAR_TABLES", "CheckReport", "TableRequest", "VerificationError",
+           "build_catalogue", "check_region", "make_dos_table", "make_return_probability_table",
+           "make_table"]

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass
+from typing import Any
 
 UNSAFE = re.compile(r'[,"\\\n\r]')
 
@@ -40,8 +41,8 @@ class Chunk:
     csv: str = ""
     json: str = ""
     rows: int = 0
-    first: tuple[int, ...] | None = None
-    last: tuple[int, ...] | None = None
+    first: tuple[Any, ...] | None = None  # sites, or the keys of a table without sites
+    last: tuple[Any, ...] | None = None
     min_agreement: int | None = None
     full_rows: int = 0
 
