@@ -106,7 +106,6 @@ def _one_line_error(p):
 
 @pytest.mark.parametrize(("args", "needle"), [
     (("resistance", "hexagonal", "1", "0"), "unknown lattice"),
-    (("resistance", "sc", "1", "0", "0"), "not implemented yet"),
     (("resistance", "triangular", "1"), "2 coordinates"),
     (("resistance", "triangular", "1", "0", "1"), "2 coordinates"),
     (("resistance", "triangular", "x", "0"), "must be an integer"),

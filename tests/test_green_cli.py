@@ -158,10 +158,10 @@ def test_dos_table(tmp_path):
 def test_green_table_bytes_do_not_depend_on_workers(tmp_path, monkeypatch):
     """A pool of worker processes (forced for a tiny table) rebuilds the provider at the
     energy and gives the same data bytes as one process."""
-    from latgreen.tables import build
+    from latgreen.quantities.square_green import SquareGreen
     from latgreen.tables.make import TableRequest, make_table
 
-    monkeypatch.setattr(build, "PARALLEL_MIN_SITES", 0)
+    monkeypatch.setattr(SquareGreen, "parallel_min_sites", 0)
     outs = []
     for w in (1, 2):
         out = tmp_path / f"w{w}"

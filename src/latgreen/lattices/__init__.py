@@ -13,10 +13,6 @@ LATTICES: dict[str, Lattice] = {
     lat.name: lat for lat in (SQUARE, TRIANGULAR, HONEYCOMB, SC, BCC, FCC)
 }
 
-# Lattices the project plans (see DEVELOPERS.md); named in error messages so that a user
-# asking for one learns it is not there yet rather than that it does not exist.
-PLANNED: tuple[str, ...] = ()
-
 
 def get_lattice(name: str) -> Lattice:
     """Look a lattice up by name, with a helpful error.
@@ -28,10 +24,6 @@ def get_lattice(name: str) -> Lattice:
         return LATTICES[name]
     except KeyError:
         pass
-    if name in PLANNED:
-        raise InputError(
-            f"lattice {name!r} is not implemented yet; available: {', '.join(sorted(LATTICES))}"
-        )
     raise InputError(f"unknown lattice {name!r}; available: {', '.join(sorted(LATTICES))}")
 
 
