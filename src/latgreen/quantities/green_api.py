@@ -1,15 +1,18 @@
 """The single-value API of the energy-dependent quantities: ``green``, ``dos``, ``local_dos``.
 
-``green`` evaluates the exact form a G00 + b G11 + c of G(E; m, n) as a certified ball and
-prints each component correctly rounded to ``digits`` significant digits of its own (a
-component that is exactly 0 by symmetry prints as ``0``); the quadrature of the reduced
-integral must agree on every printed digit of both components.
+Each lattice registers a :class:`GreenBackend` in ``BACKENDS`` (the square's is in this
+module; others live beside their providers and are registered at the bottom); the public
+functions validate the lattice and dispatch.  For the square, ``green`` evaluates the exact
+form a G00 + b G11 + c of G(E; m, n) as a certified ball and prints each component correctly
+rounded to ``digits`` significant digits of its own (a component that is exactly 0 by
+symmetry prints as ``0``); the quadrature of the reduced integral must agree on every
+printed digit of both components.
 """
 
 from __future__ import annotations
 
 import math
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 from fractions import Fraction
 from typing import Any
@@ -31,12 +34,6 @@ from .square_green import quad_digits_needed
 BASIS_TEXT = ("G00 = G(E;0,0) = 2*elliptic_k(16/E**2)/(pi*E), G11 = G(E;1,1) = "
               "(E**2 - 8)/8*G00 - E*elliptic_e(16/E**2)/(4*pi) (parameter convention, "
               "principal branch, off the cut; on the cut the E + i0 limits of the README)")
-
-
-def _square(lattice: str) -> None:
-    lat = get_lattice(lattice)
-    if lat.name != "square":  # pragma: no cover - only the square lattice is registered
-        raise InputError(f"green is not available for the {lat.name} lattice yet")
 
 
 def _frac(x: Any) -> Fraction:
@@ -70,7 +67,7 @@ class GreenResult:
     digits: int
     value_re: str
     value_im: str
-    exact: exact_green.GreenForm
+    exact: Any  # the lattice's exact form of G (printable), or None where there is none
     error_bound_re: str
     error_bound_im: str
     error_bound: str
@@ -78,6 +75,7 @@ class GreenResult:
     agreement_digits: int
     notes: tuple[str, ...] = field(default=())
     quantity: str = "green"
+    basis: str = BASIS_TEXT  # what the names in ``exact`` stand for
 
     @property
     def value(self) -> str:
@@ -98,8 +96,8 @@ class GreenResult:
             "canonical_site": list(self.canonical_site),
             "digits": self.digits,
             "value": self.value,
-            "exact": str(self.exact),
-            "exact_how": self.exact.how,
+            "exact": None if self.exact is None else str(self.exact),
+            "exact_how": None if self.exact is None else self.exact.how,
             "error_bound": self.error_bound,
             "methods": list(self.methods),
             "agreement_digits": self.agreement_digits,
@@ -109,7 +107,7 @@ class GreenResult:
             "value_im": self.value_im,
             "error_bound_re": self.error_bound_re,
             "error_bound_im": self.error_bound_im,
-            "exact_basis": BASIS_TEXT,
+            "exact_basis": self.basis,
         }
 
 
@@ -128,7 +126,7 @@ def component_agreement(centre: tuple[Fraction, Fraction], q: tuple[Fraction, Fr
     return out
 
 
-def green(lattice: str, site: Sequence[object], energy: object, digits: int = 50) -> GreenResult:
+def _square_green(site: Sequence[object], E: Energy, digits: int) -> GreenResult:
     """G(E; site) = <0|(E - H)^-1|site> at an exact energy (a string such as "9/2" or
     "1.5+0.5j"; E + i0 on the band), to ``digits`` verified significant digits per component.
 
@@ -136,10 +134,7 @@ def green(lattice: str, site: Sequence[object], energy: object, digits: int = 50
     >>> g.value, str(g.exact), g.methods
     ('0.10576448447004864316+0j', '9/8*G00 - 1/4', ('recurrence', 'quadrature'))
     """
-    _square(lattice)
-    lat = get_lattice(lattice)
-    digits = check_digits(digits)
-    E = parse_energy(energy)
+    lat = get_lattice("square")
     s = lat.site(site)
     c = lat.canonical(s)
     if c[0] > 2000:
@@ -200,7 +195,7 @@ def _dos_result(E: Energy, site: Site, canon: Site, digits: int, quantity: str,
                   energy=str(E))
 
 
-def dos(lattice: str, energy: object, digits: int = 50) -> Result:
+def _square_dos(E: Energy, digits: int) -> Result:
     """Density of states per site rho(E) = -Im G(E + i0; 0, 0)/pi = K(1 - E^2/16)/(2 pi^2)
     for 0 < |E| < 4 (K of parameter m, DLMF 19.2), 0 outside the band; normalised to 1.
 
@@ -208,9 +203,6 @@ def dos(lattice: str, energy: object, digits: int = 50) -> Result:
     >>> r.value, str(r.exact)
     ('0.099286025262700925750', 'elliptic_k(39/64)/(2*pi**2)')
     """
-    _square(lattice)
-    digits = check_digits(digits)
-    E = _real_energy(energy, "density of states")
     q = 1 - E.re * E.re / 16
     qt = str(q.numerator) if q.denominator == 1 else f"{q.numerator}/{q.denominator}"
     from flint import acb, arb
@@ -223,14 +215,11 @@ def dos(lattice: str, energy: object, digits: int = 50) -> Result:
                        form)
 
 
-def local_dos(lattice: str, site: Sequence[object], energy: object, digits: int = 50) -> Result:
+def _square_local_dos(site: Sequence[object], E: Energy, digits: int) -> Result:
     """Local density of states rho(E; m, n) = -Im G(E + i0; m, n)/pi (real E; 0 off the
     band), from the exact form (real coefficients a, b: -(a Im G00 + b Im G11)/pi).  The
     off-diagonal ones can be negative.  ``exact`` is None (the form is that of G)."""
-    _square(lattice)
-    lat = get_lattice(lattice)
-    digits = check_digits(digits)
-    E = _real_energy(energy, "local density of states")
+    lat = get_lattice("square")
     s = lat.site(site)
     c = lat.canonical(s)
     form = exact_green.green_form(E, c[0], c[1])
@@ -249,4 +238,62 @@ def local_dos(lattice: str, site: Sequence[object], energy: object, digits: int 
                        exact_green.start_bits(form, digits), None)
 
 
-__all__ = ["ZERO", "GreenResult", "dos", "green", "local_dos"]
+@dataclass(frozen=True)
+class GreenBackend:
+    """One lattice's energy-dependent quantities.  The callables receive a parsed energy
+    (real for ``dos``/``local_dos``: the caller has refused complex ones) and checked digits;
+    ``green``/``local_dos`` receive the site as given (they validate it with the lattice)."""
+
+    green: Callable[[Sequence[object], Energy, int], GreenResult]
+    dos: Callable[[Energy, int], Result]
+    local_dos: Callable[[Sequence[object], Energy, int], Result]
+
+
+BACKENDS: dict[str, GreenBackend] = {
+    "square": GreenBackend(_square_green, _square_dos, _square_local_dos),
+}
+
+
+def _backend(lattice: str, what: str) -> GreenBackend:
+    lat = get_lattice(lattice)
+    try:
+        return BACKENDS[lat.name]
+    except KeyError:
+        raise InputError(f"{what} is not available for the {lat.name} lattice yet; available "
+                         f"for: {', '.join(sorted(BACKENDS))}") from None
+
+
+def green(lattice: str, site: Sequence[object], energy: object, digits: int = 50) -> GreenResult:
+    """G(E; site) = <0|(E - H)^-1|site> at an exact energy (a string such as "9/2" or
+    "1.5+0.5j"; E + i0 on the band), to ``digits`` verified significant digits per component.
+
+    >>> g = green("square", (1, 0), energy="9/2", digits=20)
+    >>> g.value
+    '0.10576448447004864316+0j'
+    """
+    b = _backend(lattice, "green")
+    digits = check_digits(digits)
+    return b.green(site, parse_energy(energy), digits)
+
+
+def dos(lattice: str, energy: object, digits: int = 50) -> Result:
+    """Density of states per site rho(E) = -Im G(E + i0; 0)/pi at a real exact energy,
+    normalised to 1 (0 outside the band).
+
+    >>> dos("square", energy="2.5", digits=20).value
+    '0.099286025262700925750'
+    """
+    b = _backend(lattice, "dos")
+    digits = check_digits(digits)
+    return b.dos(_real_energy(energy, "density of states"), digits)
+
+
+def local_dos(lattice: str, site: Sequence[object], energy: object, digits: int = 50) -> Result:
+    """Local density of states rho(E; site) = -Im G(E + i0; site)/pi at a real exact energy
+    (the off-diagonal ones can be negative)."""
+    b = _backend(lattice, "local dos")
+    digits = check_digits(digits)
+    return b.local_dos(site, _real_energy(energy, "local density of states"), digits)
+
+
+__all__ = ["BACKENDS", "ZERO", "GreenBackend", "GreenResult", "dos", "green", "local_dos"]
