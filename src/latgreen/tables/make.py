@@ -354,7 +354,7 @@ def make_dos_table(lattice: str, energies: str, digits: int, out: Path, force: b
 
     lat = get_lattice(lattice)
     digits = check_digits(digits)
-    grid = parse_energy_grid(energies)
+    grid = parse_energy_grid(energies, lat.name)
     out = Path(out)
     check_output_dir(out, force)
     bar = Progress(len(grid), f"{lat.name}-dos {len(grid)} energies", enabled=progress)
