@@ -225,7 +225,7 @@ def dos_text(lattice: str, x: Fraction) -> tuple[str, str]:
     y = x if lattice == "triangular" else x * x - 3
     f = f"{q(abs(x))}*" if lattice == "honeycomb" else ""
     X = q(y + 3)
-    s = f"sqrt({X})"
+    s = f"sqrt({y + 3})"
     if y > -2:
         return (f"{f}elliptic_k((3 - {s})*({s} + 1)**3/(16*{s}))", f"2*pi**2*{X}**(1/4)")
     D = f"(3 - {s})*({s} + 1)**3"
