@@ -388,6 +388,8 @@ def test_cli_green_dos_and_errors():
     d = json.loads(p.stdout)
     assert d["agreement_digits"] == 50 and d["exact_basis"].startswith("G00")
     p = run_cli("dos", "triangular", "--energy", "1", "--digits", "20")
+    # our own value, confirmed by two independent methods of ours (the K closed form and the
+    # quadrature; the command checks them against each other at every call)
     assert p.stdout.strip() == "0.084905841283555519446"
     for args in (("green", "triangular", "1", "0", "--energy", "-2"),
                  ("green", "honeycomb", "1", "0", "1", "--energy", "0"),
@@ -403,6 +405,7 @@ def test_cli_tables(tmp_path):
     assert p.returncode == 0, p.stderr
     rows = (out / "values.csv").read_text().splitlines()
     assert rows[0].startswith("m,n,value_re,value_im") and len(rows) == 1 + 6
+    # G(1,0) = (E G00 - 1)/6: the lattice equation at the origin (common practice)
     assert rows[2].split(",")[4] == "7/6*G00 - 1/6"
     desc = json.loads((out / "datapackage.json").read_text())
     assert desc["latgreen"]["energy"] == "7"
