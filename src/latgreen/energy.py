@@ -7,12 +7,18 @@ the binary float nearest to it.  Binary floats themselves are refused.
 
 Conventions (DESIGN.md): G(E; r) = <0|(E - H)^-1|r>, analytic off the band; for a real E inside
 the band the retarded limit E + i0 is taken, so only Im E >= 0 is accepted (for Im E < 0 use
-G(conj E) = conj G(E)).  Refused on the square lattice, with a one-line message:
+G(conj E) = conj G(E)).  The real energies where G(E; 0) is infinite depend on the lattice
+(``SINGULAR``) and are refused with a one-line message saying why:
 
-* E = +-4 (band edge): G(E; 0, 0) diverges logarithmically; the finite band-edge limit
-  2[G(0) - G(r)] is the ``resistance`` quantity;
-* E = 0 (band centre): the density of states diverges logarithmically, so Im G(0 + i0; 0, 0)
-  is infinite.
+* square: E = +-4 (band edge): G(E; 0, 0) diverges logarithmically; the finite band-edge
+  limit 2[G(0) - G(r)] is the ``resistance`` quantity; E = 0 (band centre): the density of
+  states diverges logarithmically, so Im G(0 + i0; 0, 0) is infinite;
+* triangular: E = 6 (upper band edge, resistance as for the square), E = -3 (lower band edge,
+  Re G diverges logarithmically), E = -2 (van Hove point: the density of states diverges
+  logarithmically);
+* honeycomb: E = +-3 (band edges), E = +-1 (van Hove points), and E = 0 (the Dirac point:
+  G(0; A -> A) = 0 and the density of states is 0 there, but the exact forms' basis
+  G_tri(E^2 - 3) sits on the triangular band edge -3; only the ``dos`` takes E = 0).
 """
 
 from __future__ import annotations
@@ -89,26 +95,51 @@ class Energy:
         return "e" + str(self).replace("-", "m").replace("+", "p").replace("/", "_")
 
 
-def check_energy(er: Fraction, ei: Fraction, text: str) -> Energy:
-    """The square lattice's refusals (band edges, band centre, lower half plane)."""
+_EDGE = ("on the band edge {x} where G(E;0) diverges (logarithmically); the finite band-edge "
+         "limit 2[G(0)-G(r)] is the 'resistance' quantity (latgreen resistance {lat} ...)")
+_LOWER = "on the lower band edge {x} where Re G(E;0) diverges logarithmically"
+_HOVE = ("the van Hove point E = {x} where the density of states diverges logarithmically and "
+         "Im G(E+i0;0) is infinite")
+# lattice -> {real energy: why it is refused}
+SINGULAR: dict[str, dict[Fraction, str]] = {
+    "square": {Fraction(4): "on the band edge +-4 where G(E;0,0) diverges (logarithmically); "
+                            "the finite band-edge limit 2[G(0)-G(r)] is the 'resistance' "
+                            "quantity (latgreen resistance square M N)",
+               Fraction(0): "the band centre E = 0 where the density of states diverges "
+                            "logarithmically and Im G(E+i0;0,0) is infinite"},
+    "triangular": {Fraction(6): _EDGE.format(x=6, lat="triangular"),
+                   Fraction(-3): _LOWER.format(x=-3),
+                   Fraction(-2): _HOVE.format(x=-2)},
+    "honeycomb": {Fraction(3): _EDGE.format(x="+-3", lat="honeycomb"),
+                  Fraction(1): _HOVE.format(x="+-1"),
+                  Fraction(0): "the Dirac point E = 0: the exact forms' basis G_tri(E^2-3) sits "
+                               "on the triangular band edge there (not covered; the dos, 0 "
+                               "there, is)"},
+}
+# symmetric spectra: a refused E refuses -E too
+_SYMMETRIC = {"square", "honeycomb"}
+
+
+def check_energy(er: Fraction, ei: Fraction, text: str, lattice: str = "square",
+                 quantity: str = "green") -> Energy:
+    """The refusals: the lower half plane, and the lattice's singular real energies
+    (``SINGULAR``; the honeycomb's dos takes its Dirac point E = 0, where it is 0)."""
     if ei < 0:
         raise InputError(
             f"energy {text!r} has a negative imaginary part: latgreen takes the retarded "
             "branch E + i0 (Im E >= 0); use the complex conjugate, G(conj E) = conj G(E)")
-    if ei == 0 and abs(er) == 4:
-        raise InputError(
-            f"energy {text!r} is on the band edge +-4 where G(E;0,0) diverges "
-            "(logarithmically); the finite band-edge limit 2[G(0)-G(r)] is the "
-            "'resistance' quantity (latgreen resistance square M N)")
-    if ei == 0 and er == 0:
-        raise InputError(
-            f"energy {text!r} is the band centre E = 0 where the density of states "
-            "diverges logarithmically and Im G(E+i0;0,0) is infinite")
+    if ei == 0:
+        bad = SINGULAR.get(lattice, {})
+        key = abs(er) if lattice in _SYMMETRIC else er
+        why = bad.get(key)
+        if why is not None and not (lattice == "honeycomb" and er == 0 and quantity == "dos"):
+            raise InputError(f"energy {text!r} is {why}")
     return Energy(er, ei)
 
 
-def parse_energy(text: object) -> Energy:
-    """Exact energy from a string; ints, Fractions and Energy objects pass through checked.
+def parse_energy(text: object, lattice: str = "square", quantity: str = "green") -> Energy:
+    """Exact energy from a string; ints, Fractions and Energy objects pass through checked
+    (against ``lattice``'s singular energies, see :func:`check_energy`).
 
     >>> parse_energy("9/2"), str(parse_energy("0.5j"))
     (Energy(re=Fraction(9, 2), im=Fraction(0, 1)), '0.5j')
@@ -118,12 +149,12 @@ def parse_energy(text: object) -> Energy:
     latgreen.errors.InputError: energy '1.5-0.5j' has a negative imaginary part: ...
     """
     if isinstance(text, Energy):
-        return check_energy(text.re, text.im, str(text))
+        return check_energy(text.re, text.im, str(text), lattice, quantity)
     if isinstance(text, bool | float | complex):
         raise InputError(f"energy {text!r} is a binary float: pass a string ('4.1') or a "
                          "Fraction instead")
     if isinstance(text, int | Fraction):
-        return check_energy(Fraction(text), Fraction(0), str(text))
+        return check_energy(Fraction(text), Fraction(0), str(text), lattice, quantity)
     if not isinstance(text, str):
         raise InputError(f"cannot use {text!r} as an energy: pass a string such as '9/2' or "
                          "'1.5+0.5j'")
@@ -150,10 +181,11 @@ def parse_energy(text: object) -> Energy:
     except (ValueError, ZeroDivisionError):
         raise InputError(f"cannot parse energy {text!r}: expected e.g. '4.5', '9/2', "
                          "'1.5+0.5j', '0.5j'") from None
-    return check_energy(er, ei, text)
+    return check_energy(er, ei, text, lattice, quantity)
 
 
-def parse_energy_grid(text: str) -> list[Energy]:
+def parse_energy_grid(text: str, lattice: str = "square", quantity: str = "dos"
+                      ) -> list[Energy]:
     """``A:B:COUNT`` -> COUNT equally spaced exact real energies from A to B inclusive
     (COUNT >= 2; COUNT = 1 gives A alone).  Every point goes through the energy checks, so a
     grid that hits 0 or +-4 is refused with the offending point named.
@@ -171,7 +203,7 @@ def parse_energy_grid(text: str) -> list[Energy]:
         raise InputError(f"energy grid {text!r}: COUNT must be an integer") from None
     if count < 1 or count > 100_000:
         raise InputError(f"energy grid {text!r}: COUNT must be between 1 and 100000")
-    a, b = parse_energy(parts[0]), parse_energy(parts[1])
+    a, b = parse_energy(parts[0], lattice, quantity), parse_energy(parts[1], lattice, quantity)
     if not (a.is_real and b.is_real):
         raise InputError(f"energy grid {text!r}: the end points must be real")
     if count == 1:
@@ -180,5 +212,6 @@ def parse_energy_grid(text: str) -> list[Energy]:
     out = []
     for k in range(count):
         x = a.re + k * step
-        out.append(check_energy(x, Fraction(0), f"{_text(x)} (point {k} of the grid {text})"))
+        out.append(check_energy(x, Fraction(0), f"{_text(x)} (point {k} of the grid {text})",
+                                lattice, quantity))
     return out

@@ -68,7 +68,8 @@ def _fmt_q(x: Fraction) -> str:
 
 @dataclass(frozen=True)
 class GreenForm:
-    """a G00 + b G11 + c with Gaussian-rational a, b, c, for one energy.
+    """a G00 + b G11 + c with Gaussian-rational a, b, c, for one energy (other lattices name
+    their two basis functions in ``names``).
 
     >>> f = GreenForm(((Fraction(9, 8), Fraction(0)), (Fraction(0), Fraction(0)),
     ...                (Fraction(-1, 4), Fraction(0))))
@@ -81,10 +82,11 @@ class GreenForm:
 
     coeffs: tuple[Cq, Cq, Cq]
     how: str = "derived"
+    names: tuple[str, str] = ("G00", "G11")  # the two basis functions (the lattice's)
 
     def __str__(self) -> str:
         parts: list[str] = []
-        for (re_, im), name in zip(self.coeffs, ("G00", "G11", "1"), strict=True):
+        for (re_, im), name in zip(self.coeffs, (*self.names, "1"), strict=True):
             if re_ == 0 and im == 0:
                 continue
             if im == 0 or re_ == 0:

@@ -26,6 +26,7 @@ from .honeycomb_resistance import HONEYCOMB_RESISTANCE
 from .square_green import SquareGreen
 from .square_resistance import SQUARE_RESISTANCE
 from .triangular_resistance import TRIANGULAR_RESISTANCE
+from .trihex_green import HoneycombGreen, TriangularGreen
 
 MAX_DIGITS = 1000
 QUANTITIES = ("resistance", "green", "dos")
@@ -40,6 +41,8 @@ PROVIDERS: dict[tuple[str, str], Provider] = {
 # quantities with a parameter (the energy): a factory binds a provider to one energy
 PARAMETRISED: dict[tuple[str, str], Callable[[Energy], Provider]] = {
     ("square", "green"): SquareGreen,
+    ("triangular", "green"): TriangularGreen,
+    ("honeycomb", "green"): HoneycombGreen,
 }
 
 
@@ -63,7 +66,7 @@ def get_provider(lattice: str, quantity: str, energy: object = None) -> Provider
     if factory is not None:
         if energy is None:
             raise InputError(f"quantity {quantity!r} needs an energy (--energy E)")
-        return factory(parse_energy(energy))
+        return factory(parse_energy(energy, lat.name))
     if energy is not None:
         raise InputError(f"quantity {quantity!r} takes no energy")
     if quantity == "dos":

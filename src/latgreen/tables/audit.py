@@ -137,7 +137,7 @@ def audit(path: Path, lattice: str, quantity: str, site_columns: list[str], valu
     if energy is not None and conv.hopping == -1:
         from ..energy import parse_energy
 
-        e = parse_energy(energy)
+        e = parse_energy(energy, lattice)
         energy = str(type(e)(-e.re, e.im)) if hasattr(e, "re") else energy
     provider = get_provider(lattice, quantity, energy)
     cplx = bool(getattr(provider, "complex_valued", False))

@@ -354,7 +354,7 @@ def make_dos_table(lattice: str, energies: str, digits: int, out: Path, force: b
 
     lat = get_lattice(lattice)
     digits = check_digits(digits)
-    grid = parse_energy_grid(energies)
+    grid = parse_energy_grid(energies, lat.name)
     out = Path(out)
     check_output_dir(out, force)
     bar = Progress(len(grid), f"{lat.name}-dos {len(grid)} energies", enabled=progress)
@@ -366,9 +366,13 @@ def make_dos_table(lattice: str, energies: str, digits: int, out: Path, force: b
                    r.agreement_digits)
             bar.advance(1)
 
+    primary = ("closed form K(1 - E^2/16)/(2 pi^2) as a python-flint ball, correctly rounded"
+               if lat.name == "square" else
+               "closed form (complete elliptic integral K, printed in the exact column) as a "
+               "python-flint ball, correctly rounded; 0 outside the band"
+               + (" and at the Dirac point E = 0" if lat.name == "honeycomb" else ""))
     meta = {"digits": digits, "energies": energies, "grid": [str(E) for E in grid],
-            "methods": {"primary": "closed form K(1 - E^2/16)/(2 pi^2) as a python-flint ball, "
-                                   "correctly rounded",
+            "methods": {"primary": primary,
                         "check": "-Im of the quadrature of the reduced integral for G(E+i0;0,0)"
                                  "/pi, at full digits for every row"}}
     d = write_energy_table(out, lat, "dos", rows(), meta, force=force)
