@@ -7,7 +7,9 @@
 For each lattice it prints: the exact forms of the whole region (recurrence only), the same
 plus the rigorous evaluation to D digits with the exact forms attached, the batch quadrature
 at D digits for every row of the extent-60 region (the full check), its float64 variant, and
-per-site times of the adaptive tanh-sinh rule against the panel rule at three sites.
+per-site times of the adaptive tanh-sinh rule against the panel rule at three sites per
+lattice, and the ratio of the per-site adaptive quadrature of the whole extent-60 region
+(extrapolated from those sites' mean) to the exact table of the same region.
 
 Green section (``--green-extent N``, energies ``--green-energies``, default 7 and 1.5+0.5j for
 the triangular lattice, 4 and 1.5+0.5j for the honeycomb): the exact forms a B0 + b B2 + c of
@@ -93,9 +95,10 @@ def main() -> None:
     if a.green_only:
         return
     D = a.digits
+    exact_time: dict[tuple[str, int], tuple[float, int]] = {}
     for lat in ("triangular", "honeycomb"):
         p = get_provider(lat, "resistance")
-        for N in a.extents:
+        for N in sorted(set(a.extents) | {a.check_extent}):
             t = time.perf_counter()
             sites = sum(len(b.sites) for b in p.batches(N))
             t1 = time.perf_counter() - t
@@ -103,6 +106,7 @@ def main() -> None:
             for _ in p.evaluated_batches(N, D, True):
                 pass
             t2 = time.perf_counter() - t
+            exact_time[(lat, N)] = (t2, sites)
             print(f"{lat:10s} extent {N:4d} ({sites} sites): exact forms {t1:6.2f} s, "
                   f"exact + evaluation to {D} digits {t2:6.2f} s")
         t = time.perf_counter()
@@ -115,22 +119,32 @@ def main() -> None:
         t4 = time.perf_counter() - t
         print(f"{lat:10s} extent {a.check_extent}: batch quadrature at {D} digits {t3:6.2f} s, "
               f"float64 {t4:6.3f} s")
+    per_site: dict[str, list[float]] = {"triangular": [], "honeycomb": []}
     for site in [(5, 2), (30, 17), (60, 30)]:
         t = time.perf_counter()
         tq.reduced_adaptive(*site, D)
         ta = time.perf_counter() - t
+        per_site["triangular"].append(ta)
         t = time.perf_counter()
         tq.resistance_quad(*site, D)
         tb = time.perf_counter() - t
         print(f"triangular {site}: adaptive tanh-sinh {ta:6.2f} s, panel rule {tb:6.3f} s")
-    t = time.perf_counter()
-    hq.quad_adaptive((30, -10, 1), D)
-    ta = time.perf_counter() - t
-    t = time.perf_counter()
-    hq.quad_sites([(30, -10, 1)], D)
-    tb = time.perf_counter() - t
-    print(f"honeycomb (30, -10, 1): adaptive tanh-sinh {ta:6.2f} s, panel rule {tb:6.3f} s")
-
+    for hsite in [(5, 2, 1), (30, -10, 1), (60, 30, 0)]:
+        t = time.perf_counter()
+        hq.quad_adaptive(hsite, D)
+        ta = time.perf_counter() - t
+        per_site["honeycomb"].append(ta)
+        t = time.perf_counter()
+        hq.quad_sites([hsite], D)
+        tb = time.perf_counter() - t
+        print(f"honeycomb {hsite}: adaptive tanh-sinh {ta:6.2f} s, panel rule {tb:6.3f} s")
+    N = a.check_extent
+    for lat, times in per_site.items():
+        t_exact, sites = exact_time[(lat, N)]
+        est = sum(times) / len(times) * sites
+        print(f"{lat:10s} resistance, extent {N}, {D} digits: exact table {t_exact:6.2f} s; "
+              f"per-site adaptive tanh-sinh ~{est / 3600:6.2f} h (mean of {len(times)} sites "
+              f"x {sites} sites); ratio {est / t_exact:,.0f}x")
 
 if __name__ == "__main__":
     main()
