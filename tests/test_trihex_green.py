@@ -355,7 +355,7 @@ def test_green_api():
     ("triangular", "6", "resistance"), ("triangular", "-3", "lower band edge"),
     ("triangular", "-2", "van Hove"), ("honeycomb", "3", "band edge"),
     ("honeycomb", "-3", "band edge"), ("honeycomb", "1", "van Hove"),
-    ("honeycomb", "-1", "van Hove"), ("honeycomb", "0", "Dirac point"),
+    ("honeycomb", "-1", "van Hove"),
     ("triangular", "1-1j", "negative imaginary"),
 ])
 def test_singular_energies_refused(lattice, E, words):
@@ -368,8 +368,6 @@ def test_other_bad_inputs():
     assert str(parse_energy("0", "triangular")) == "0"
     with pytest.raises(InputError, match="real energies"):
         latgreen.dos("triangular", "1+1j", digits=10)
-    with pytest.raises(InputError, match="Dirac"):
-        latgreen.local_dos("honeycomb", (0, 0, 0), "0", digits=10)
     with pytest.raises(InputError):
         latgreen.green("honeycomb", (0, 0, 2), "1.5", digits=10)
     with pytest.raises(InputError, match="up to 300"):
@@ -377,6 +375,76 @@ def test_other_bad_inputs():
     with pytest.raises(InputError, match="van Hove"):
         parse_energy_grid("-2:2:5", "honeycomb")  # hits -1
     assert [str(e) for e in parse_energy_grid("-0.5:0.5:3", "honeycomb")] == ["-0.5", "0", "0.5"]
+
+
+# ------------------------------------------------------------------------------ Dirac point
+
+def _dirac_value(site):
+    """The exact form at E = 0 evaluated in mpmath (p*sqrt(3)/pi + q, the limit E -> 0)."""
+    f = tg.green_form("honeycomb", hc_e("0"), HONEYCOMB.canonical(site))
+    (p, pi_), (b, bi), (q, qi) = f.coeffs
+    assert pi_ == bi == qi == b == 0  # real, and over (sqrt(3)/pi, 1) only
+    return (mpmath.mpf(p.numerator) / p.denominator * mpmath.sqrt(3) / mpmath.pi
+            + mpmath.mpf(q.numerator) / q.denominator)
+
+
+def test_dirac_point_forms_against_the_independent_integral():
+    """The B-site limits p sqrt(3)/pi + q (triangular forms at w = -3, derived in
+    exact/trihex_green.py) against the Dirac-point 1-D integral (hc_dirac_quad), 30 digits,
+    every B site with |m|, |n| <= 3; the A sites are 0."""
+    from latgreen.methods.trihex_green_quadrature import hc_dirac_quad
+
+    with mpmath.workdps(40):
+        for m in range(-3, 4):
+            for n in range(-3, 4):
+                want = hc_dirac_quad((m, n, 1), 32)
+                assert abs(_dirac_value((m, n, 1)) - want) < mpmath.mpf(10) ** -30, (m, n)
+                assert str(tg.green_form("honeycomb", hc_e("0"), HONEYCOMB.canonical(
+                    (m, n, 0)))) == "0"
+
+
+def test_dirac_point_lattice_equation_exactly():
+    """At E = 0 the lattice equation at A(m, n) reads -[G(B(m,n)) + G(B(m-1,n)) + G(B(m,n-1))]
+    = delta: the three neighbours' exact forms sum to -1 at the origin, 0 elsewhere."""
+    E = hc_e("0")
+    for m in range(-4, 5):
+        for n in range(-4, 5):
+            tot = [Fraction(0)] * 3
+            for b in ((m, n, 1), (m - 1, n, 1), (m, n - 1, 1)):
+                f = tg.green_form("honeycomb", E, HONEYCOMB.canonical(b))
+                tot = [t + c[0] for t, c in zip(tot, f.coeffs, strict=True)]
+            assert tot == [0, 0, -1 if (m, n) == (0, 0) else 0], (m, n)
+
+
+def test_dirac_point_api_values_and_limit():
+    # nearest neighbour -1/3: the lattice equation at the origin at E = 0 with three
+    # equivalent neighbours (common practice)
+    g = latgreen.green("honeycomb", (0, 0, 1), "0", digits=30)
+    assert g.value == "-0.333333333333333333333333333333+0j" and str(g.exact) == "-1/3"
+    # a B site where G(0) vanishes exactly: our own form, confirmed by the integral
+    z = latgreen.green("honeycomb", (3, -1, 1), "0", digits=30)
+    assert z.value == "0+0j" and z.methods == ("recurrence", "quadrature")
+    a = latgreen.green("honeycomb", (2, 1, 0), "0", digits=20)
+    assert a.value == "0+0j"
+    assert latgreen.local_dos("honeycomb", (1, 0, 1), "0", digits=10).value == "0"
+    # continuity: at E = 1/1000 (the regular path, basis at w = 10^-6 - 3) G is within
+    # O(E^2 log E) of the limit
+    g0 = latgreen.green("honeycomb", (1, -1, 1), "0", digits=25)
+    g1 = latgreen.green("honeycomb", (1, -1, 1), "1/1000", digits=25)
+    assert str(g0.exact) == "1/2*sqrt(3)/pi"
+    d = abs(g1.mpc - g0.mpc)
+    assert 0 < d < mpmath.mpf("1e-4")
+
+
+def test_dirac_point_table(tmp_path):
+    out = tmp_path / "dirac"
+    p = run_cli("table", "honeycomb", "--quantity", "green", "--energy", "0", "--extent", "3",
+                "--digits", "20", "--out", str(out), "--quiet")
+    assert p.returncode == 0, p.stderr
+    rows = {tuple(r.split(",")[:3]): r.split(",") for r in
+            (out / "values.csv").read_text().splitlines()[1:]}
+    assert rows[("3", "-1", "1")][3:6] == ["0", "0", "0"]  # value_re, value_im, exact
+    assert rows[("1", "1", "1")][5] == "sqrt(3)/pi - 2/3"
 
 
 # ------------------------------------------------------------------------------ CLI, files
@@ -392,7 +460,7 @@ def test_cli_green_dos_and_errors():
     # quadrature; the command checks them against each other at every call)
     assert p.stdout.strip() == "0.084905841283555519446"
     for args in (("green", "triangular", "1", "0", "--energy", "-2"),
-                 ("green", "honeycomb", "1", "0", "1", "--energy", "0"),
+                 ("green", "honeycomb", "1", "0", "--energy", "0"),
                  ("dos", "honeycomb", "--energy", "1")):
         p = run_cli(*args)
         assert p.returncode == 2 and p.stderr.count("\n") == 1 and "Traceback" not in p.stderr

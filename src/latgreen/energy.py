@@ -16,9 +16,9 @@ G(conj E) = conj G(E)).  The real energies where G(E; 0) is infinite depend on t
 * triangular: E = 6 (upper band edge, resistance as for the square), E = -3 (lower band edge,
   Re G diverges logarithmically), E = -2 (van Hove point: the density of states diverges
   logarithmically);
-* honeycomb: E = +-3 (band edges), E = +-1 (van Hove points), and E = 0 (the Dirac point:
-  G(0; A -> A) = 0 and the density of states is 0 there, but the exact forms' basis
-  G_tri(E^2 - 3) sits on the triangular band edge -3; only the ``dos`` takes E = 0).
+* honeycomb: E = +-3 (band edges), E = +-1 (van Hove points).  Its Dirac point E = 0 is
+  accepted: G(0; r) is the finite limit E -> 0 (0 on the A sites, p + q sqrt(3)/pi on the B
+  sites; ``exact/trihex_green.py``), the density of states is 0 there.
 """
 
 from __future__ import annotations
@@ -111,10 +111,7 @@ SINGULAR: dict[str, dict[Fraction, str]] = {
                    Fraction(-3): _LOWER.format(x=-3),
                    Fraction(-2): _HOVE.format(x=-2)},
     "honeycomb": {Fraction(3): _EDGE.format(x="+-3", lat="honeycomb"),
-                  Fraction(1): _HOVE.format(x="+-1"),
-                  Fraction(0): "the Dirac point E = 0: the exact forms' basis G_tri(E^2-3) sits "
-                               "on the triangular band edge there (not covered; the dos, 0 "
-                               "there, is)"},
+                  Fraction(1): _HOVE.format(x="+-1")},
 }
 # symmetric spectra: a refused E refuses -E too
 _SYMMETRIC = {"square", "honeycomb"}
@@ -123,7 +120,7 @@ _SYMMETRIC = {"square", "honeycomb"}
 def check_energy(er: Fraction, ei: Fraction, text: str, lattice: str = "square",
                  quantity: str = "green") -> Energy:
     """The refusals: the lower half plane, and the lattice's singular real energies
-    (``SINGULAR``; the honeycomb's dos takes its Dirac point E = 0, where it is 0)."""
+    (``SINGULAR``; the honeycomb's Dirac point E = 0 is taken as the limit E -> 0)."""
     if ei < 0:
         raise InputError(
             f"energy {text!r} has a negative imaginary part: latgreen takes the retarded "
@@ -132,7 +129,7 @@ def check_energy(er: Fraction, ei: Fraction, text: str, lattice: str = "square",
         bad = SINGULAR.get(lattice, {})
         key = abs(er) if lattice in _SYMMETRIC else er
         why = bad.get(key)
-        if why is not None and not (lattice == "honeycomb" and er == 0 and quantity == "dos"):
+        if why is not None:
             raise InputError(f"energy {text!r} is {why}")
     return Energy(er, ei)
 

@@ -41,6 +41,19 @@ closed forms of the basis functions are in ``methods/trihex_green_closed.py``.  
    G(E; m,n,1) = [G(m,n,0) + G(m+1,n,0) + G(m,n+1,0)]/E = G_tri(w;m,n) + G_tri(w;m+1,n)
    + G_tri(w;m,n+1).
 
+6. The honeycomb's Dirac point E = 0 (w = -3, the triangular band bottom, where T00 diverges
+   like log(w + 3)/(pi sqrt 3): the in-band closed form with K(k^2) ~ (1/2) log(16/(1 - k^2)),
+   1 - k^2 ~ 16 sqrt(w + 3)/3).  The A sites are E G_tri(w) -> 0.  At a B site the form
+   a T00 + b T20 + c has a finite limit: with T20 = alpha T00 + beta dT00/dw + gamma
+   (``methods/trihex_green_closed.py``), alpha(-3) = -1/2, gamma(-3) = 1/6 and
+   beta = -(w - 6)(w + 2)(w + 3)/3, so beta dT00/dw -> -3/(pi sqrt 3) = -sqrt(3)/pi, while
+   (a + alpha b) T00 must tend to 0: a(-3) = b(-3)/2 exactly (asserted for every site; it
+   holds).  Hence G(0; B) = c + b/6 - b sqrt(3)/pi with a, b, c the sums of the three
+   triangular forms' coefficients at w = -3: rationals, printed over the basis
+   (sqrt(3)/pi, 1).  The limit is real (Im T00 stays finite and Im dT00/dw ~ 1/sqrt(w + 3)
+   is killed by beta).  Confirmed to 40 digits at every B site with |m|, |n| <= 5 by the
+   independent 1-D integral ``methods/trihex_green_quadrature.hc_dirac_quad``.
+
 Each coefficient (of G00, G20, 1) runs through the same linear recurrences from its own seeds,
 so the three are computed as independent sequences of Gaussian rationals.
 
@@ -69,6 +82,12 @@ from .complex_eval import ComplexRounded, certify_complex
 from .square_green import GreenForm, start_bits
 
 NAMES = {"triangular": ("G00", "G20"), "honeycomb": ("T00", "T20")}
+DIRAC_NAMES = ("sqrt(3)/pi", "0")  # the honeycomb at E = 0: forms p*sqrt(3)/pi + q
+
+
+def is_dirac(lattice: str, E: Energy) -> bool:
+    """The honeycomb's Dirac point E = 0, where the forms are the limits of item 6."""
+    return lattice == "honeycomb" and E.re == 0 and E.im == 0
 
 
 @dataclass(frozen=True)
@@ -168,8 +187,17 @@ class TriSector:
         return tuple(r[n][m - n] for r in self.rows)
 
 
-def _form(lattice: str, c: tuple[Any, Any, Any]) -> GreenForm:
-    return GreenForm(tuple(_fr(x) for x in c), names=NAMES[lattice])  # type: ignore[arg-type]
+def _form(lattice: str, c: tuple[Any, Any, Any], dirac: bool = False) -> GreenForm:
+    names = DIRAC_NAMES if dirac else NAMES[lattice]
+    return GreenForm(tuple(_fr(x) for x in c), names=names)  # type: ignore[arg-type]
+
+
+def _dirac_limit(c: tuple[Any, Any, Any]) -> tuple[Any, Any, Any]:
+    """(a, b, c) of a B site at w = -3 -> (-b, 0, c + b/6): G = -b sqrt(3)/pi + c + b/6."""
+    a, b, k = c
+    if a != b / 2:  # pragma: no cover - a proven identity (module docstring, item 6)
+        raise ArithmeticError("the Dirac-point limit does not exist: a(-3) != b(-3)/2")
+    return -b, mpq(0), k + b / 6
 
 
 def tri_sites(site: Site) -> list[tuple[int, int]]:
@@ -182,7 +210,8 @@ def _hc_coeffs(sec: TriSector, e: Any, site: Site) -> tuple[Any, Any, Any]:
     parts = [sec.coeffs(p, q) for p, q in tri_sites(site)]
     if site[2] == 0:
         return tuple(e * x for x in parts[0])
-    return tuple(parts[0][j] + parts[1][j] + parts[2][j] for j in range(3))
+    out = tuple(parts[0][j] + parts[1][j] + parts[2][j] for j in range(3))
+    return _dirac_limit(out) if e == 0 else out
 
 
 def _sector_for(lattice: str, E: Energy, M: int, n_max: int) -> TriSector:
@@ -209,9 +238,10 @@ def columns(lattice: str, E: Energy, extent: int) -> Iterator[tuple[int, list[Si
         return
     sec = _sector_for(lattice, E, 2 * (extent + 1), extent + 1)
     e = _scalar(E.re, E.im)
+    dirac = is_dirac(lattice, E)
     for m in range(extent + 1):
         sites = column_sites(m)
-        yield m, sites, [_form(lattice, _hc_coeffs(sec, e, x)) for x in sites]
+        yield m, sites, [_form(lattice, _hc_coeffs(sec, e, x), dirac) for x in sites]
 
 
 def green_form(lattice: str, E: Energy, site: Site) -> GreenForm:
@@ -227,12 +257,14 @@ def green_form(lattice: str, E: Energy, site: Site) -> GreenForm:
     site = HONEYCOMB.canonical(site)
     ts = [canonical_pair(p, q) for p, q in tri_sites(site)]
     sec = _sector_for(lattice, E, max(p + q for p, q in ts), max(q for _, q in ts))
-    return _form(lattice, _hc_coeffs(sec, _scalar(E.re, E.im), site))
+    return _form(lattice, _hc_coeffs(sec, _scalar(E.re, E.im), site), is_dirac(lattice, E))
 
 
 def zero_parts(lattice: str, E: Energy, site: Site) -> tuple[bool, bool]:
     """(Re G = 0, Im G = 0) exactly, by the symmetries in the module docstring."""
     lo, hi = (-3, 6) if lattice == "triangular" else (-3, 3)
+    if is_dirac(lattice, E):  # real limits; 0 on the A sites
+        return site[2] == 0, True
     if E.im == 0:
         return False, not lo <= E.re <= hi
     if lattice == "honeycomb" and E.re == 0:
@@ -261,5 +293,8 @@ def evaluate(form: GreenForm, lattice: str, E: Energy, site: Site, digits: int
              ) -> ComplexRounded:
     """Both components correctly rounded to ``digits`` significant digits each (or exactly 0
     by symmetry), certified by balls whose precision follows the coefficient sizes."""
+    zero = zero_parts(lattice, E, site)
+    if all(x == 0 for c in form.coeffs for x in c):  # e.g. B sites at the Dirac point
+        zero = (True, True)
     return certify_complex(lambda bits: ball(form, lattice, E, bits), start_bits(form, digits),
-                           digits, zero_parts(lattice, E, site), f"G({E};{site})")
+                           digits, zero, f"G({E};{site})")

@@ -183,6 +183,13 @@ def basis_balls(lattice: str, E: Energy, prec: int) -> tuple[acb, acb]:
     triangular (G(E;0,0), G(E;2,0)); honeycomb (G_tri(w;0,0), G_tri(w;2,0)), w = E^2 - 3."""
     if lattice == "triangular":
         return tri_basis(E.re, E.im, 1, prec)
+    if E.re == 0 and E.im == 0:  # the Dirac point: forms over (sqrt(3)/pi, 1), see
+        old = ctx.prec           # exact/trihex_green.py item 6
+        try:
+            ctx.prec = prec
+            return acb(arb(3).sqrt() / arb.pi()), acb(0)
+        finally:
+            ctx.prec = old
     return tri_basis(*hc_w(E), prec)
 
 

@@ -146,6 +146,8 @@ def tri_quad(re_: Fraction, im_: Fraction, m: int, n: int, dps: int, sign: int =
 def hc_quad(re_: Fraction, im_: Fraction, site: tuple[int, int, int], dps: int) -> Any:
     """Honeycomb G(E; A(0,0) -> site) from the Bloch integrals (module docstring), to about
     ``dps`` digits relative to |G| (sums of three triangular values carry 5 more digits)."""
+    if re_ == 0 and im_ == 0:  # the Dirac point: its own integral (w = -3 is singular)
+        return hc_dirac_quad(site, dps)
     m, n, s = site
     w_re, w_im = re_ * re_ - im_ * im_ - 3, 2 * re_ * im_
     sign = 1 if re_ >= 0 else -1
@@ -163,5 +165,44 @@ def hc_quad(re_: Fraction, im_: Fraction, site: tuple[int, int, int], dps: int) 
                     parts = [tri_quad(w_re, w_im, p, q, dps + extra, sign)
                              for p, q in ((m, n), (m + 1, n), (m, n + 1))]
                     val = parts[0] + parts[1] + parts[2]
+    with mpmath.workdps(dps):
+        return +val
+
+
+def hc_dirac_quad(site: tuple[int, int, int], dps: int) -> Any:
+    """Honeycomb G(0; A(0,0) -> site) at the Dirac point E = 0, the limit E -> 0 (real).
+
+    On the A sites it is 0 (G_AA = E G_tri(E^2 - 3), and E log E -> 0).  On the B sites
+    G_AB(0) = -(1/4pi^2) int int e^{-ik.r}/conj(f) d^2k, conj(f) = a + e^{ik2}, a = 1 + e^{ik1}
+    = 2 cos(k1/2) e^{ik1/2}, an integrable 1/|k - K| singularity at the Dirac points.  The k2
+    integral by the geometric series in e^{ik2} (|a| > 1 for |k1| < 2pi/3, |a| < 1 beyond)
+    leaves, with k = k1 and the symmetry k -> -k (the integrand at -k is the conjugate),
+
+        n >= 0:  G = -((-1)^n/pi) int_0^{2pi/3} cos((m + (n+1)/2) k) / (2 cos(k/2))^(n+1) dk,
+        n <= -1: G =  ((-1)^n/pi) int_{2pi/3}^{pi} cos((m + (n+1)/2) k) (2 cos(k/2))^(-n-1) dk,
+
+    both integrands smooth on their closed intervals (tanh-sinh on pieces shorter than the
+    oscillation's half period).  It shares nothing with the exact forms but the definition of
+    G (they come from the triangular recurrence at w = -3; ``exact/trihex_green.py``).
+
+    >>> with mpmath.workdps(20):
+    ...     print(mpmath.nstr(hc_dirac_quad((0, 0, 1), 15), 15))  # nearest neighbour: -1/3
+    -0.333333333333333
+    """
+    m, n, s = site
+    if s == 0:
+        return mpmath.mpf(0)
+    with mpmath.workdps(dps + 10):
+        pi = mpmath.pi
+        freq = m + mpmath.mpf(n + 1) / 2
+        if n >= 0:
+            lo, hi, sign = mpmath.mpf(0), 2 * pi / 3, -1
+            f = lambda k: mpmath.cos(freq * k) / (2 * mpmath.cos(k / 2)) ** (n + 1)  # noqa: E731
+        else:
+            lo, hi, sign = 2 * pi / 3, pi, 1
+            f = lambda k: mpmath.cos(freq * k) * (2 * mpmath.cos(k / 2)) ** (-n - 1)  # noqa: E731
+        pieces = int(abs(freq) * (hi - lo) / pi) + 1
+        pts = [lo + (hi - lo) * j / pieces for j in range(pieces + 1)]
+        val = sign * (-1) ** (n % 2) * mpmath.quad(f, pts) / pi
     with mpmath.workdps(dps):
         return +val

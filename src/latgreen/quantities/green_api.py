@@ -114,8 +114,11 @@ class GreenResult:
 def component_agreement(centre: tuple[Fraction, Fraction], q: tuple[Fraction, Fraction],
                         zero: tuple[bool, bool], digits: int) -> int:
     """Digits on which both components agree; a component 0 by symmetry agrees when the
-    quadrature's is below 10^-digits |G|."""
+    quadrature's is below 10^-digits |G|, a value that is exactly 0 when the quadrature's
+    modulus is below 10^-digits."""
     size2 = q[0] * q[0] + q[1] * q[1]  # exact: G can be far below float64's range
+    if all(zero):  # G = 0 exactly (e.g. the honeycomb's Dirac point): |quadrature| < 10^-digits
+        return digits if size2 * 100**digits <= 1 else 0
     out = digits
     for c, x, z in zip(centre, q, zero, strict=True):
         if z:

@@ -41,6 +41,16 @@ BASIS_TEXT = {
 }
 
 
+DIRAC_TEXT = ("the honeycomb's Dirac point E = 0: G(0; r) is the limit E -> 0, 0 on the A sites "
+              "and p*sqrt(3)/pi + q (rational p, q) on the B sites, from the triangular forms "
+              "at w = -3 (see exact/trihex_green.py)")
+
+
+def basis_text(lattice: str, E: Energy) -> str:
+    """What the names in the exact forms stand for at E."""
+    return DIRAC_TEXT if exact_green.is_dirac(lattice, E) else BASIS_TEXT[lattice]
+
+
 def quad_value(lattice: str, E: Energy, site: Site, dps: int) -> Any:
     """The independent value of G(E; site) (canonical site) to about ``dps`` digits."""
     if lattice == "triangular":

@@ -38,7 +38,7 @@ from .green_api import (
     component_agreement,
 )
 from .square_green import quad_digits_needed
-from .trihex_green import BASIS_TEXT, EXACT_LIMIT, quad_value
+from .trihex_green import EXACT_LIMIT, basis_text, quad_value
 
 BAND = {"triangular": (Fraction(-3), Fraction(6)), "honeycomb": (Fraction(-3), Fraction(3))}
 ORIGIN = {"triangular": (0, 0), "honeycomb": (0, 0, 0)}
@@ -58,7 +58,7 @@ def _green(lattice: str, site: Sequence[object], E: Energy, digits: int) -> Gree
     s, c = _site(lattice, site)
     form = exact_green.green_form(lattice, E, c)
     v = exact_green.evaluate(form, lattice, E, c, digits)
-    zero = exact_green.zero_parts(lattice, E, c)
+    zero = (str(v.re) == "0", str(v.im) == "0")  # exact zeros (symmetry, or a zero form)
     dps = quad_digits_needed(v, digits)
     with mpmath.workdps(dps + 5):
         q = quad_value(lattice, E, c, dps)
@@ -69,7 +69,7 @@ def _green(lattice: str, site: Sequence[object], E: Energy, digits: int) -> Gree
                                 f"quadrature agree to only {agree} of {digits} digits")
     return GreenResult(lattice, s, c, E, digits, str(v.re), str(v.im), form,
                        v.re.half_ulp(), v.im.half_ulp(), _modulus_bound([v.re, v.im]),
-                       ("recurrence", "quadrature"), agree, basis=BASIS_TEXT[lattice])
+                       ("recurrence", "quadrature"), agree, basis=basis_text(lattice, E))
 
 
 def triangular_green(site: Sequence[object], E: Energy, digits: int) -> GreenResult:
@@ -161,6 +161,10 @@ def _local_dos(lattice: str, site: Sequence[object], E: Energy, digits: int) -> 
     if not lo < E.re < hi:
         return _out_of_band(lattice, E, s, c, digits, "local-dos",
                             f"outside the band [{lo}, {hi}] G is real: the density is 0")
+    if exact_green.is_dirac(lattice, E):
+        return _out_of_band(lattice, E, s, c, digits, "local-dos",
+                            "at the Dirac point every G(0 + i0; r) is real (the limits "
+                            "p + q sqrt(3)/pi, 0 on the A sites): the density is 0")
     form = exact_green.green_form(lattice, E, c)
 
     def build(bits: int) -> Any:
