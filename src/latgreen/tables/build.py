@@ -27,6 +27,7 @@ import warnings
 from collections.abc import Callable, Iterator, Sequence
 from fractions import Fraction
 from multiprocessing.pool import Pool
+from pathlib import Path
 from typing import Any
 
 import numpy as np
@@ -115,13 +116,13 @@ def rows(provider: Provider, extent: int, digits: int, verify: str, with_exact: 
             on_batch(len(eb.sites))
 
 
-def plan_units(provider: Provider, extent: int, parts: int) -> list[tuple[int, int]]:
-    """Split the batches into ``parts`` contiguous work units of about equal row counts.
+def plan_units(sizes: Sequence[int], parts: int) -> list[tuple[int, int]]:
+    """Split batches of ``sizes`` rows into ``parts`` contiguous work units of about equal
+    row counts.
 
     A unit is computed by one worker from scratch (the recurrence up to its first batch is
     run again there: cheap next to rounding, checking and rendering), so the number of units
     stays small: the number of workers, or more where one unit's text would be large."""
-    sizes = [len(s) for s in provider.batch_sites(extent)]
     total = sum(sizes)
     parts = max(1, min(parts, len(sizes)))
     bounds, acc, k = [0], 0, 1
@@ -156,11 +157,12 @@ def run_units(provider: Provider, extent: int, digits: int, verify: str, with_ex
               units: list[tuple[int, int]], todo: list[int],
               on_unit: Callable[[int, Chunk], None],
               on_rows: Callable[[int], None] | None = None, workers: int = 1,
-              scheduler: str | None = None) -> None:
+              scheduler: str | None = None, save_dir: Path | None = None) -> None:
     """Compute the work units ``todo`` (indices into ``units``) and hand each finished one
     to ``on_unit`` (in any order): serially in one pass, in a pool of forked workers, or on
     a Dask distributed cluster at ``scheduler``.  The text of a unit does not depend on
-    where it ran."""
+    where it ran.  Pool workers save their unit into the checkpoint directory ``save_dir``
+    themselves (if given) and hand ``on_unit`` a chunk without texts (``saved``)."""
     if not todo:
         return
     name, quantity = provider.lattice.name, provider.quantity
@@ -181,7 +183,9 @@ def run_units(provider: Provider, extent: int, digits: int, verify: str, with_ex
     pool = _pool(workers, progress)
     ok = False
     try:
-        it = pool.imap_unordered(indexed_unit_job, [(i, args(i)) for i in todo], chunksize=1)
+        jobs = [(i, args(i)) if save_dir is None else (i, args(i), str(save_dir))
+                for i in todo]
+        it = pool.imap_unordered(indexed_unit_job, jobs, chunksize=1)
         for _ in todo:
             while True:
                 try:

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass
+from pathlib import Path
 from typing import Any
 
 UNSAFE = re.compile(r'[,"\\\n\r]')
@@ -33,6 +34,16 @@ class RowBlock:
         return len(self.sites)
 
 
+@dataclass(frozen=True)
+class Stored:
+    """A chunk's texts kept in files (UTF-8), with the sha256 they must have."""
+
+    csv: Path
+    json: Path
+    csv_sha256: str
+    json_sha256: str
+
+
 @dataclass
 class Chunk:
     """Rendered rows: ``csv`` lines each ending in a newline, ``json`` rows each preceded by
@@ -45,7 +56,8 @@ class Chunk:
     last: tuple[Any, ...] | None = None
     min_agreement: int | None = None
     full_rows: int = 0
-
+    stored: Stored | None = None  # the texts are in files (a checkpoint), not here
+    saved: bool = False  # a worker saved the texts into the checkpoint (they are not here)
 
 
 def merge(parts: list[Chunk]) -> Chunk:

@@ -38,11 +38,19 @@ def unit_job(args: UnitArgs) -> Any:
                   rows(p, extent, digits, verify, with_exact, start, stop, on_batch=_report)])
 
 
-def indexed_unit_job(job: tuple[int, UnitArgs]) -> Any:
-    """(index, unit arguments) -> (index, chunk): for pools and clusters that return results
-    in any order."""
-    i, args = job
-    return i, unit_job(args)
+def indexed_unit_job(job: tuple[int, UnitArgs] | tuple[int, UnitArgs, str]) -> Any:
+    """(index, unit arguments[, checkpoint directory]) -> (index, chunk): for pools and
+    clusters that return results in any order.  With a checkpoint directory (a worker on the
+    machine of the build) the unit saves itself there and returns its chunk without texts."""
+    i, args = job[0], job[1]
+    ch = unit_job(args)
+    if len(job) > 2:
+        from pathlib import Path
+
+        from .checkpoint import save_unit
+
+        ch = save_unit(Path(job[2]), i, ch)  # type: ignore[misc]
+    return i, ch
 
 
 def ignore_sigint() -> None:
