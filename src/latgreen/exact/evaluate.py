@@ -234,7 +234,9 @@ class RoundedColumn:
     def center_floats(self) -> np.ndarray:
         """The centres as float64 (for comparisons with float64 checks)."""
         if self.bits and len(self.nums) == len(self.values):
-            x = np.array([int(v) >> max(0, self.bits - 64) for v in self.nums], dtype=float)
+            # floor to 64 fractional bits, then one correctly rounded conversion per row
+            top = np.array(self.nums, dtype=object) >> max(0, self.bits - 64)
+            x = top.astype(float)
             x *= 2.0 ** -min(64, self.bits)
         else:
             x = np.zeros(len(self.values))

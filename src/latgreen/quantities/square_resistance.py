@@ -3,8 +3,10 @@
 from __future__ import annotations
 
 from collections.abc import Iterator, Sequence
+from operator import itemgetter
 
 import mpmath
+import numpy as np
 
 from ..exact import square as exact_square
 from ..exact.evaluate import evaluate_form, round_enclosures
@@ -73,8 +75,9 @@ class SquareResistance(Provider):
         m = sites[0][0]
         if m == 0:
             return [0.0 for _ in sites]
-        col = square_quadrature.column_float(m, max(s[1] for s in sites))
-        return [float(col[s[1]]) for s in sites]
+        ns = np.fromiter(map(itemgetter(1), sites), dtype=np.int64, count=len(sites))
+        col = square_quadrature.column_float(m, int(ns.max()))
+        return col[ns].tolist()
 
     def quad(self, site: Site, digits: int) -> mpmath.mpf:
         return square_quadrature.resistance_quad(site[0], site[1], digits)

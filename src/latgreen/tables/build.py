@@ -315,7 +315,8 @@ def _block(provider: Provider, eb: Any, checks: Sequence[Any], full: bool, digit
     method = "quadrature" if full else "quadrature-float64"
     need = digits if full else min(FAST_MIN_AGREEMENT, digits)
     rc = eb.rounded
-    origin = [k for k, site in enumerate(eb.sites) if not any(site)]
+    zero = (0,) * len(eb.sites[0]) if eb.sites else ()
+    origin = [eb.sites.index(zero)] if zero in eb.sites else []
     if getattr(eb, "imag", None) is not None:
         return _complex_block(provider, eb, checks, digits, with_exact)
     if eb.imag is not None:
@@ -335,7 +336,8 @@ def _block(provider: Provider, eb: Any, checks: Sequence[Any], full: bool, digit
     methods = [f"recurrence;{method}"] * len(eb.sites)
     for k in origin:
         agree[k], methods[k] = digits, "definition"
-    bad = [k for k, g in enumerate(agree) if g < need and k not in origin]
+    low = np.nonzero(np.asarray(agree) < need)[0].tolist() if agree else []
+    bad = [k for k in low if k not in origin]
     if bad:
         k = bad[0]
         raise VerificationError(

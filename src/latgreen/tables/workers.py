@@ -49,7 +49,7 @@ def indexed_unit_job(job: tuple[int, UnitArgs] | tuple[int, UnitArgs, str]) -> A
 
         from .checkpoint import save_unit
 
-        ch = save_unit(Path(job[2]), i, ch)  # type: ignore[misc]
+        ch = save_unit(Path(job[2]), i, ch)
     return i, ch
 
 
