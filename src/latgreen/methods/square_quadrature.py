@@ -281,8 +281,24 @@ def column_float(m: int, n_max: int | None = None) -> np.ndarray:
         base += float(np.sum(tw * -np.expm1(-2 * m * np.arcsinh(ts)) / (ts * np.sqrt(1 + ts * ts))))
     osc = 2 * w * np.exp(-e) / q
     ns = np.arange(n_max + 1, dtype=float)
-    s = np.sin(np.outer(ns, x))
-    return (base + (s * s) @ osc) / math.pi
+    # sin(n x_j)^2 for every n and node, computed in place in a reused scratch array (the
+    # same operations on the same C-contiguous layout as np.sin(np.outer(ns, x))**2, without
+    # a fresh allocation per column)
+    s = _scratch(len(ns) * len(x)).reshape(len(ns), len(x))
+    np.multiply(ns[:, None], x[None, :], out=s)
+    np.sin(s, out=s)
+    np.multiply(s, s, out=s)
+    return (base + s @ osc) / math.pi
+
+
+_SCRATCH: list[np.ndarray] = [np.empty(0)]
+
+
+def _scratch(size: int) -> np.ndarray:
+    """A float64 work array of ``size`` elements, reused between calls in this process."""
+    if _SCRATCH[0].size < size:
+        _SCRATCH[0] = np.empty(max(size, 2 * _SCRATCH[0].size))
+    return _SCRATCH[0][:size]
 
 
 def resistance_quad(m: int, n: int, digits: int) -> mpmath.mpf:
