@@ -106,6 +106,15 @@ class Provider:
         for b in self.batches(extent):
             yield b.sites
 
+    # a parallel work unit reruns the batches before its first one (the recurrence only):
+    # their cost per row relative to a row computed in full, for balancing the units
+    prefix_cost = 0.0
+
+    def batch_costs(self, extent: int, digits: int, verify: str) -> list[float] | None:
+        """Work per batch in units of one row's work, for balancing parallel work units
+        (None: balance by row counts).  Only the speed depends on it, never the output."""
+        return None
+
     def batch_count(self, extent: int) -> int:
         """Number of batches of a table to ``extent`` (for the sampling of ``fast`` checks)."""
         return sum(1 for _ in self.batch_sites(extent))

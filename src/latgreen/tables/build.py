@@ -20,6 +20,7 @@ consumed in batch order, so the output does not depend on the number of workers.
 
 from __future__ import annotations
 
+import bisect
 import multiprocessing
 import os
 import signal
@@ -116,22 +117,61 @@ def rows(provider: Provider, extent: int, digits: int, verify: str, with_exact: 
             on_batch(len(eb.sites))
 
 
-def plan_units(sizes: Sequence[int], parts: int) -> list[tuple[int, int]]:
-    """Split batches of ``sizes`` rows into ``parts`` contiguous work units of about equal
-    row counts.
+def plan_units(sizes: Sequence[int], parts: int, costs: Sequence[float] | None = None,
+               prefix: float = 0.0) -> list[tuple[int, int]]:
+    """Split batches of ``sizes`` rows into at most ``parts`` contiguous work units.
 
     A unit is computed by one worker from scratch (the recurrence up to its first batch is
     run again there: cheap next to rounding, checking and rendering), so the number of units
-    stays small: the number of workers, or more where one unit's text would be large."""
-    total = sum(sizes)
+    stays small: the number of workers, or more where one unit's text would be large.
+
+    Without ``costs`` the units have about equal row counts (a serial build, which runs
+    them in one pass).  With ``costs`` (per batch, in units of one row's work) a unit
+    [a, b) costs sum(costs[a:b]) + prefix * sum(sizes[:a]) (the recurrence it runs again
+    before its first batch), and the split minimises the largest unit cost: the smallest
+    bound C for which cutting greedily at C needs no more than ``parts`` units.
+
+    >>> plan_units([1] * 10, 2)
+    [(0, 5), (5, 10)]
+    >>> plan_units([1] * 10, 2, [1.0] * 10, prefix=0.5)
+    [(0, 6), (6, 10)]
+    """
     parts = max(1, min(parts, len(sizes)))
-    bounds, acc, k = [0], 0, 1
-    for i, n in enumerate(sizes):
-        acc += n
-        if k < parts and acc >= total * k / parts and i + 1 < len(sizes):
-            bounds.append(i + 1)
-            k += 1
-    bounds.append(len(sizes))
+    if costs is None or parts == 1:
+        total = sum(sizes)
+        bounds, acc, k = [0], 0, 1
+        for i, n in enumerate(sizes):
+            acc += n
+            if k < parts and acc >= total * k / parts and i + 1 < len(sizes):
+                bounds.append(i + 1)
+                k += 1
+        bounds.append(len(sizes))
+        return list(zip(bounds[:-1], bounds[1:], strict=True))
+    cum_c = [0.0]
+    for c in costs:
+        cum_c.append(cum_c[-1] + c)
+    cum_s = [0]
+    for n in sizes:
+        cum_s.append(cum_s[-1] + n)
+    count = len(sizes)
+
+    def cut(limit: float) -> list[int]:
+        bounds = [0]
+        while bounds[-1] < count:
+            a = bounds[-1]
+            base = prefix * cum_s[a] - cum_c[a]
+            b = bisect.bisect_right(cum_c, limit - base, a + 1) - 1
+            bounds.append(max(b, a + 1))  # a batch costlier than the limit: a unit of its own
+        return bounds
+
+    lo, hi = 0.0, cum_c[-1] + prefix * cum_s[-1]
+    for _ in range(60):
+        mid = (lo + hi) / 2
+        if len(cut(mid)) - 1 <= parts:
+            hi = mid
+        else:
+            lo = mid
+    bounds = cut(hi)
     return list(zip(bounds[:-1], bounds[1:], strict=True))
 
 

@@ -168,7 +168,9 @@ def make_table(req: TableRequest) -> dict[str, Any]:
     else:
         parts = unit_count(_cluster_size(req.scheduler) if req.scheduler else workers,
                            len(sizes), need, req.scheduler is not None)
-        units = plan_units(sizes, parts)
+        parallel = req.scheduler is not None or workers > 1
+        costs = provider.batch_costs(extent, digits, verify) if parallel else None
+        units = plan_units(sizes, parts, costs, provider.prefix_cost)
         ckpt.start(params, units)
         done = set()
     bar.advance(sum(sum(sizes[a:b]) for i, (a, b) in enumerate(units) if i in done))
