@@ -217,7 +217,7 @@ def run_units(provider: Provider, extent: int, digits: int, verify: str, with_ex
         return
     if workers <= 1 or len(todo) == 1:
         _run_serial(provider, extent, digits, verify, with_exact, units, todo, on_unit,
-                    on_rows)
+                    on_rows, save_dir)
         return
     progress = _progress_queue()
     pool = _pool(workers, progress)
@@ -247,9 +247,12 @@ def run_units(provider: Provider, extent: int, digits: int, verify: str, with_ex
 def _run_serial(provider: Provider, extent: int, digits: int, verify: str, with_exact: bool,
                 units: list[tuple[int, int]], todo: list[int],
                 on_unit: Callable[[int, Chunk], None],
-                on_rows: Callable[[int], None] | None) -> None:
+                on_rows: Callable[[int], None] | None, save_dir: Path | None = None) -> None:
     """One pass over the batches from the first unit to do; units already done are passed
-    over (their batches are still computed where the recurrence needs them)."""
+    over (their batches are still computed where the recurrence needs them).  With
+    ``save_dir`` each unit is written there block by block (:class:`UnitWriter`)."""
+    from .checkpoint import UnitWriter
+
     want = set(todo)
     start = units[min(todo)][0]
     stop = units[max(todo)][1]
@@ -258,20 +261,39 @@ def _run_serial(provider: Provider, extent: int, digits: int, verify: str, with_
         for bi in range(a, b):
             unit_of[bi] = i
     parts: list[Chunk] = []
+    writer: UnitWriter | None = None
     current = None
-    for blk_index, blk in _indexed_rows(provider, extent, digits, verify, with_exact, start,
-                                        stop, want, unit_of):
-        i = unit_of[blk_index]
-        if current is not None and i != current:
-            on_unit(current, merge(parts))
+
+    def close(i: int) -> None:
+        nonlocal parts, writer
+        if writer is not None:
+            on_unit(i, writer.finish())
+            writer = None
+        else:
+            on_unit(i, merge(parts))
             parts = []
-        current = i
-        if i in want:
-            parts.append(render(blk))
-            if on_rows is not None:
-                on_rows(len(blk))
-    if current is not None and current in want:
-        on_unit(current, merge(parts))
+
+    try:
+        for blk_index, blk in _indexed_rows(provider, extent, digits, verify, with_exact,
+                                            start, stop, want, unit_of):
+            i = unit_of[blk_index]
+            if current is not None and i != current:
+                close(current)
+            if i != current and save_dir is not None:
+                writer = UnitWriter(save_dir, i)
+            current = i
+            if i in want:
+                if writer is not None:
+                    writer.add(render(blk))
+                else:
+                    parts.append(render(blk))
+                if on_rows is not None:
+                    on_rows(len(blk))
+        if current is not None and current in want:
+            close(current)
+    finally:
+        if writer is not None:
+            writer.abort()
 
 
 def _indexed_rows(provider: Provider, extent: int, digits: int, verify: str,

@@ -9,8 +9,9 @@ only when it is complete and its hashes match: a build killed at any moment (eve
 SIGKILL) resumes from exactly the units that finished.  The output directory itself appears
 only when the whole table is assembled; then the checkpoint is removed.
 
-A worker process on the same machine saves its unit itself (:func:`save_unit`), so the
-texts cross no pipe.  Only ``plan.json`` is fsynced: a unit file that did not reach the
+A worker process on the same machine, and a serial build, write a unit block by block as
+they are rendered (:class:`UnitWriter`), so the texts cross no pipe and no unit's text is
+ever held whole.  Only ``plan.json`` is fsynced: a unit file that did not reach the
 disk before a crash fails its hash and the unit is simply computed again.
 """
 
@@ -24,7 +25,7 @@ from pathlib import Path
 from typing import Any
 
 from ..errors import InputError
-from .render import Chunk, Stored
+from .render import Chunk, Stored, merge
 
 FORMAT = 1
 
@@ -57,19 +58,60 @@ def _paths(directory: Path, i: int) -> tuple[Path, Path, Path]:
             base.with_suffix(".meta.json"))
 
 
+class UnitWriter:
+    """Writes unit ``i`` into the checkpoint block by block, as the blocks are rendered (so
+    a unit's text is never held whole), hashing as it goes; :meth:`finish` renames the text
+    files into place and writes the meta file with their hashes last."""
+
+    def __init__(self, directory: Path, i: int) -> None:
+        self.paths = _paths(directory, i)
+        self.tmps = [p.with_name(p.name + ".tmp") for p in self.paths[:2]]
+        self.files = [open(t, "wb") for t in self.tmps]  # noqa: SIM115 - closed in finish
+        self.hashes = [hashlib.sha256(), hashlib.sha256()]
+        self.parts: list[Chunk] = []
+
+    def add(self, ch: Chunk) -> None:
+        if not ch.rows:
+            return
+        for f, h, text in zip(self.files, self.hashes, (ch.csv, ch.json), strict=True):
+            b = text.encode("utf-8")
+            f.write(b)
+            h.update(b)
+        self.parts.append(Chunk(rows=ch.rows, first=ch.first, last=ch.last,
+                                min_agreement=ch.min_agreement, full_rows=ch.full_rows))
+
+    def finish(self) -> Chunk:
+        """Complete the unit; the chunk returned has no texts (``saved``)."""
+        for f in self.files:
+            f.close()
+        for tmp, path in zip(self.tmps, self.paths[:2], strict=True):
+            os.replace(tmp, path)
+        ch = merge(self.parts)  # the summary (and a check of the row order)
+        meta = {"rows": ch.rows, "first": ch.first, "last": ch.last,
+                "min_agreement": ch.min_agreement, "full_rows": ch.full_rows,
+                "csv_sha256": self.hashes[0].hexdigest(),
+                "json_sha256": self.hashes[1].hexdigest()}
+        _atomic_write(self.paths[2], (json.dumps(meta) + "\n").encode("utf-8"))
+        return Chunk(rows=ch.rows, first=ch.first, last=ch.last,
+                     min_agreement=ch.min_agreement, full_rows=ch.full_rows, saved=True)
+
+    def abort(self) -> None:
+        """Drop an unfinished unit (its temporary files)."""
+        for f in self.files:
+            f.close()
+        for tmp in self.tmps:
+            tmp.unlink(missing_ok=True)
+
+
 def save_unit(directory: Path, i: int, ch: Chunk) -> Chunk:
-    """Save unit ``i`` (texts first, the meta file with their hashes last) and return the
-    chunk without its texts (what a worker sends back to the main process)."""
-    csv_p, json_p, meta_p = _paths(directory, i)
-    csv, js = ch.csv.encode("utf-8"), ch.json.encode("utf-8")
-    _atomic_write(csv_p, csv)
-    _atomic_write(json_p, js)
-    meta = {"rows": ch.rows, "first": ch.first, "last": ch.last,
-            "min_agreement": ch.min_agreement, "full_rows": ch.full_rows,
-            "csv_sha256": _sha(csv), "json_sha256": _sha(js)}
-    _atomic_write(meta_p, (json.dumps(meta) + "\n").encode("utf-8"))
-    return Chunk(rows=ch.rows, first=ch.first, last=ch.last, min_agreement=ch.min_agreement,
-                 full_rows=ch.full_rows, saved=True)
+    """Save a whole unit ``i`` at once; returns the chunk without its texts."""
+    w = UnitWriter(directory, i)
+    try:
+        w.add(ch)
+        return w.finish()
+    except BaseException:
+        w.abort()
+        raise
 
 
 class Checkpoint:
