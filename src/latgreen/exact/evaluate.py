@@ -327,7 +327,9 @@ def _positional(qs: list[str], e: int, digits: int) -> list[str]:
     if 0 <= e < digits:
         if e + 1 == digits:
             return qs
-        return [q[: e + 1] + "." + q[e + 1:] for q in qs]
+        if e == 0:
+            return [f"{q[0]}.{q[1:]}" for q in qs]
+        return [f"{q[: e + 1]}.{q[e + 1:]}" for q in qs]
     if -6 <= e < 0:
         lead = "0." + "0" * (-e - 1)
         return [lead + q for q in qs]

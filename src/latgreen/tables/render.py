@@ -79,18 +79,16 @@ def merge(parts: list[Chunk]) -> Chunk:
     )
 
 
-_INT_TEXT: list[str] = [str(i) for i in range(4096)]
+_INT_TEXT: dict[int, str] = {i: str(i) for i in range(4096)}
 
 
 def _int_texts(col: list[int]) -> list[str]:
     """``[str(v) for v in col]`` with the texts of small non-negative integers (coordinates,
     agreement digits) looked up instead of formatted."""
-    if col and min(col) >= 0 and max(col) < 1 << 20:
-        top = max(col)
-        if top >= len(_INT_TEXT):
-            _INT_TEXT.extend(map(str, range(len(_INT_TEXT), top + 1)))
+    try:
         return list(map(_INT_TEXT.__getitem__, col))
-    return list(map(str, col))
+    except KeyError:
+        return list(map(str, col))
 
 
 def _rows_text(parts: list[str | list[str]], n: int) -> str:
