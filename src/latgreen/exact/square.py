@@ -158,7 +158,9 @@ def enclosure_columns(extent: int, bits: int) -> Iterator[tuple[int, list[int], 
         S += K // (2 * m + 1)
         err_s += 2
         new = [4 * cur[0] - prev[0] - 2 * cur[1]]
-        new += [4 * cur[n] - prev[n] - cur[n + 1] - cur[n - 1] for n in range(1, m)]
+        # n = 1..m-1: 4 cur[n] - prev[n] - cur[n+1] - cur[n-1], over zipped slices
+        new += [(c << 2) - p - u - d for c, p, u, d in zip(cur[1:m], prev[1:m], cur[2:m + 1],
+                                                           cur[:m - 1], strict=True)]
         new.append(2 * cur[m] - cur[m - 1])
         new.append(S)
         err_new = max(6 * err_cur + err_prev, err_s)

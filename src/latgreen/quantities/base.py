@@ -115,6 +115,10 @@ class Provider:
         (None: balance by row counts).  Only the speed depends on it, never the output."""
         return None
 
+    def batch_sizes(self, extent: int) -> list[int]:
+        """Rows of each batch, in order (for planning the work units)."""
+        return [len(s) for s in self.batch_sites(extent)]
+
     def batch_count(self, extent: int) -> int:
         """Number of batches of a table to ``extent`` (for the sampling of ``fast`` checks)."""
         return sum(1 for _ in self.batch_sites(extent))

@@ -158,7 +158,7 @@ def make_table(req: TableRequest) -> dict[str, Any]:
                              "add --resume to continue it, or --force to start over")
         ckpt.remove()
     units: list[tuple[int, int]] | None = None
-    sizes = [len(s) for s in provider.batch_sites(extent)]
+    sizes = provider.batch_sizes(extent)
     if req.resume and ckpt.exists():
         old, units = ckpt.plan()
         if old != params:
