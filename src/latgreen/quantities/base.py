@@ -48,6 +48,9 @@ class EvaluatedBatch:
     rounded: RoundedColumn  # the value, or its real part for a complex quantity
     forms: list[ExactForm] | None
     imag: RoundedColumn | None = None  # the imaginary part of a complex quantity
+    # the exact forms already printed (str(form), form.how), where a provider prints them
+    # faster than the forms would; then ``forms`` may be None
+    texts: tuple[list[str], list[str]] | None = None
 
 
 class Provider:

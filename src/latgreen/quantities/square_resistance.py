@@ -35,7 +35,8 @@ class SquareResistance(Provider):
                           stop: int | None = None) -> Iterator[tuple[int, EvaluatedBatch]]:
         """Values from the fixed-point enclosure of the recurrence (one integer per site, a
         proven error bound per column); exact forms, if asked, from the rational recurrence
-        run alongside.  A row the enclosure cannot decide is evaluated from its exact form.
+        run alongside, printed by ``Column.texts`` (the strings of ``str(form)``).  A row
+        the enclosure cannot decide is evaluated from its exact form.
         Columns before ``start`` are run through (the recurrence needs them) but not rounded.
         """
         bits = exact_square.enclosure_bits(extent, digits)
@@ -49,8 +50,8 @@ class SquareResistance(Provider):
             for n in rc.undecided:
                 form = col.form(n) if col is not None else exact_square.resistance_form(m, n)
                 rc.put(n, evaluate_form(form, digits))
-            forms = [col.form(n) for n in range(m + 1)] if col is not None else None
-            yield m, EvaluatedBatch([(m, n) for n in range(m + 1)], rc, forms)
+            texts = (col.texts(), ["derived"] * (m + 1)) if col is not None else None
+            yield m, EvaluatedBatch([(m, n) for n in range(m + 1)], rc, None, texts=texts)
 
     def exact_form(self, site: Site) -> ExactForm | None:
         m, n = site

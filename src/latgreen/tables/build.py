@@ -407,11 +407,16 @@ def _block(provider: Provider, eb: Any, checks: Sequence[Any], full: bool, digit
             f"{method} agree to only {agree[k]} digits (need {need})")
     forms = eb.forms if with_exact and eb.forms is not None else None
     n = len(eb.sites)
+    if with_exact and eb.texts is not None:
+        exacts, hows = eb.texts
+    else:
+        exacts = [str(f) for f in forms] if forms is not None else [""] * n
+        hows = [f.how for f in forms] if forms is not None else [""] * n
     return RowBlock(
         sites=eb.sites,
         values=rc.values,
-        exacts=[str(f) for f in forms] if forms is not None else [""] * n,
-        hows=[f.how for f in forms] if forms is not None else [""] * n,
+        exacts=exacts,
+        hows=hows,
         bounds=rc.bounds,
         methods=methods,
         agreements=agree,
