@@ -77,7 +77,7 @@ class _Hashing(io.RawIOBase):
     """Text sink that writes UTF-8 bytes to a file while hashing and counting them."""
 
     def __init__(self, path: Path) -> None:
-        self.f = open(path, "wb", buffering=0)  # noqa: SIM115 - closed in close()
+        self.f = open(path, "wb")  # noqa: SIM115 - closed in close()
         self.h = hashlib.sha256()
         self.n = 0
 
@@ -85,11 +85,7 @@ class _Hashing(io.RawIOBase):
         self.write_bytes(s.encode("utf-8"))
 
     def write_bytes(self, b: bytes | memoryview) -> None:
-        with memoryview(b) as view:
-            done = 0
-            while done < len(view):
-                with view[done:] as rest:
-                    done += self.f.write(rest)
+        self.f.write(b)
         self.h.update(b)
         self.n += len(b)
 
@@ -114,6 +110,7 @@ class _Hashing(io.RawIOBase):
                     raise InputError(f"{path} changed during the build; use --force to "
                                      "start over")
                 off, left = skip, size - skip
+                self.f.flush()  # the kernel copy writes at the file's position
                 try:
                     while left > 0:
                         k = os.copy_file_range(src.fileno(), self.f.fileno(), left, off)
@@ -122,9 +119,9 @@ class _Hashing(io.RawIOBase):
                         off, left = off + k, left - k
                 except (OSError, AttributeError):
                     pass  # no kernel copy here: copy the rest by hand
-                while off < size:
+                if off < size:
                     with view[off:] as rest:
-                        off += self.f.write(rest)
+                        self.f.write(rest)
                 self.n += size - skip
             finally:
                 view.release()
