@@ -4,6 +4,8 @@
     python scripts/bench_square.py                 # N = 200 and N = 1000, 50 digits
     python scripts/bench_square.py --sizes 200     # one size
     python scripts/bench_square.py --quick         # N = 60 and 150: a smoke run
+    python scripts/bench_square.py --sizes 1000 --only ours-no-exact d-floor --repeat 5
+                                                   # the N = 1000 target alone, medians of 5
 
 Each measurement runs in a fresh subprocess, so its peak resident memory (ru_maxrss) is its
 own.  What is measured, for an octant 0 <= n <= m <= N at D digits:
@@ -24,6 +26,9 @@ own.  What is measured, for an octant 0 <= n <= m <= N at D digits:
 
 Targets (issue 2): ours >= 1000x faster than (a) at N = 200; ours within 3x of (d) at
 N = 1000.  The script prints the ratios and whether each target is met; it does not assert.
+With --repeat K every contestant runs K times, interleaved (floor, ours, floor, ours, ...,
+so that a busy machine slows both alike), and the medians are compared.  --only restricts
+the contestants; the ratios are printed for those that ran.
 """
 
 from __future__ import annotations
@@ -33,6 +38,7 @@ import json
 import math
 import os
 import resource
+import statistics
 import subprocess
 import sys
 import tempfile
@@ -193,6 +199,10 @@ def main() -> None:
     ap.add_argument("--sizes", type=int, nargs="+", default=[200, 1000])
     ap.add_argument("--digits", type=int, default=50)
     ap.add_argument("--quick", action="store_true")
+    ap.add_argument("--only", nargs="+", choices=sorted(CONTESTANTS), metavar="NAME",
+                    help=f"run only these contestants ({', '.join(CONTESTANTS)})")
+    ap.add_argument("--repeat", type=int, default=1, metavar="K",
+                    help="run each contestant K times (interleaved) and report medians")
     ap.add_argument("--run", nargs=3, help=argparse.SUPPRESS)
     a = ap.parse_args()
     if a.run:
@@ -203,36 +213,58 @@ def main() -> None:
         print(json.dumps(res))
         return
     sizes = [60, 150] if a.quick else a.sizes
-    print(f"python {sys.version.split()[0]} on {os.cpu_count()} cores; digits {a.digits}")
+    names = [c for c in CONTESTANTS if a.only is None or c in a.only]
+    print(f"python {sys.version.split()[0]} on {os.cpu_count()} cores; digits {a.digits}"
+          + (f"; medians of {a.repeat} interleaved runs" if a.repeat > 1 else ""))
     for n in sizes:
-        res = {}
-        for name in CONTESTANTS:
-            if name == "b-sympy" and n > 200:
-                continue
-            res[name] = measure(name, n, a.digits)
-            r = res[name]
-            extra = {k: v for k, v in r.items() if k not in ("seconds", "peak_mib")
-                     and not (k == "peak_worker_mib" and not v)}
-            print(f"N={n:5d} {name:14s} {r.get('seconds', float('nan')):10.2f} s  "
-                  f"peak {r.get('peak_mib', float('nan')):8.1f} MiB  {extra}", flush=True)
-        if n > 200 and "b-sympy" not in res:
+        runs: dict[str, list[dict]] = {}
+        for rep in range(max(1, a.repeat)):
+            for name in names:
+                if name == "b-sympy" and n > 200:
+                    continue
+                r = measure(name, n, a.digits)
+                runs.setdefault(name, []).append(r)
+                extra = {k: v for k, v in r.items() if k not in ("seconds", "peak_mib")
+                         and not (k == "peak_worker_mib" and not v)}
+                tag = f"#{rep + 1} " if a.repeat > 1 else ""
+                print(f"N={n:5d} {tag}{name:14s} {r.get('seconds', float('nan')):10.2f} s  "
+                      f"peak {r.get('peak_mib', float('nan')):8.1f} MiB  {extra}", flush=True)
+        res = {name: dict(rs[-1], seconds=statistics.median(
+                   r.get("seconds", float("nan")) for r in rs)) for name, rs in runs.items()}
+        if a.repeat > 1:
+            for name, rs in runs.items():
+                secs = sorted(r.get("seconds", float("nan")) for r in rs)
+                print(f"N={n:5d} {name:14s} median {res[name]['seconds']:8.2f} s  "
+                      f"(runs {', '.join(f'{x:.2f}' for x in secs)})")
+        if n > 200 and "b-sympy" in names:
             print(f"N={n:5d} b-sympy        not run (its recurrence alone grows like N^2 "
                   "symbolic additions; see N=200)")
-        ours = res["ours"]["seconds"]
-        floor = res["d-floor"]["seconds"]
-        print(f"N={n:5d} ratios: (a) mpmath quadrature / ours = "
-              f"{res['a-mpmath-quad']['seconds'] / ours:,.0f}x"
-              + (f"; (b) sympy / ours = {res['b-sympy']['seconds'] / ours:,.1f}x"
-                 if "b-sympy" in res else "")
-              + f"; ours / (d) floor = {ours / floor:.2f}x"
-              + f" (without exact columns {res['ours-no-exact']['seconds'] / floor:.2f}x)"
-              + f"; float64 worst digits = {res['c-float64']['worst_digits']}")
-        if n == 200:
-            ok = res["a-mpmath-quad"]["seconds"] / ours >= 1000
+        floor = res["d-floor"]["seconds"] if "d-floor" in res else None
+        parts = []
+        for name in ("ours", "ours-no-exact"):
+            if name not in res:
+                continue
+            ours = res[name]["seconds"]
+            if "a-mpmath-quad" in res:
+                parts.append(f"(a) mpmath quadrature / {name} = "
+                             f"{res['a-mpmath-quad']['seconds'] / ours:,.0f}x")
+            if "b-sympy" in res:
+                parts.append(f"(b) sympy / {name} = {res['b-sympy']['seconds'] / ours:,.1f}x")
+            if floor:
+                parts.append(f"{name} / (d) floor = {ours / floor:.2f}x")
+        if "c-float64" in res:
+            parts.append(f"float64 worst digits = {res['c-float64']['worst_digits']}")
+        if parts:
+            print(f"N={n:5d} ratios: " + "; ".join(parts))
+        if n == 200 and "a-mpmath-quad" in res and "ours" in res:
+            ok = res["a-mpmath-quad"]["seconds"] / res["ours"]["seconds"] >= 1000
             print(f"N={n:5d} target >= 1000x faster than (a): {'met' if ok else 'NOT met'}")
-        if n == 1000:
-            ok = ours / floor <= 3
-            print(f"N={n:5d} target within 3x of (d): {'met' if ok else 'NOT met'}")
+        if n == 1000 and floor:
+            for name in ("ours", "ours-no-exact"):
+                if name in res:
+                    ok = res[name]["seconds"] / floor <= 3
+                    print(f"N={n:5d} target within 3x of (d), {name}: "
+                          f"{'met' if ok else 'NOT met'}")
 
 
 if __name__ == "__main__":

@@ -76,3 +76,10 @@ def test_one_digit_values_take_the_right_decade(digits):
     got = ev.evaluate_many([(col.A[1], col.B[1])])[0].rounded
     assert got == ev.evaluate((col.A[1], col.B[1])).rounded
     assert str(got).startswith("0.6")
+
+
+def test_table_texts_of_the_forms_are_str_of_the_forms():
+    # tables print the exact forms with gmpy2 (Column.texts) instead of str(ExactForm):
+    # the same strings, including zero terms, halves and both signs
+    for col in columns(150):
+        assert col.texts() == [str(col.form(n)) for n in range(col.m + 1)], col.m

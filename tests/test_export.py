@@ -217,3 +217,31 @@ def test_workers_and_units_do_not_change_the_bytes(tmp_path, reference_big):
                             progress=False, workers=2))
     for name in ("values.csv", "values.json"):
         assert (out / name).read_bytes() == (reference_big / name).read_bytes()
+
+
+@pytest.mark.parametrize("kernel_copy", [True, False])
+def test_stored_units_are_copied_whole_and_checked(tmp_path, monkeypatch, kernel_copy):
+    # the writer appends a checkpoint file by copy_file_range (or by hand where the kernel
+    # cannot), hashing the output as it goes and refusing a file that changed
+    from latgreen.errors import InputError
+    from latgreen.tables.export import _Hashing
+
+    if not kernel_copy:
+        def no_copy(*args):
+            raise OSError(18, "cross-device link")
+        monkeypatch.setattr(os, "copy_file_range", no_copy)
+    src = tmp_path / "unit.json"
+    src.write_bytes(b',\n[1,"0.5"]' * 5000)
+    sha = hashlib.sha256(src.read_bytes()).hexdigest()
+    sink = _Hashing(tmp_path / "out")
+    sink.write_text("[")
+    sink.copy_file(src, sha, skip=2)
+    sink.copy_file(src, sha)
+    sink.close()
+    want = b"[" + src.read_bytes()[2:] + src.read_bytes()
+    assert (tmp_path / "out").read_bytes() == want
+    assert (sink.n, sink.h.hexdigest()) == (len(want), hashlib.sha256(want).hexdigest())
+    sink = _Hashing(tmp_path / "out2")
+    with pytest.raises(InputError, match="changed during the build"):
+        sink.copy_file(src, "0" * 64)
+    sink.close()

@@ -234,7 +234,9 @@ class RoundedColumn:
     def center_floats(self) -> np.ndarray:
         """The centres as float64 (for comparisons with float64 checks)."""
         if self.bits and len(self.nums) == len(self.values):
-            x = np.array([int(v) >> max(0, self.bits - 64) for v in self.nums], dtype=float)
+            # floor to 64 fractional bits, then one correctly rounded conversion per row
+            top = np.array(self.nums, dtype=object) >> max(0, self.bits - 64)
+            x = top.astype(float)
             x *= 2.0 ** -min(64, self.bits)
         else:
             x = np.zeros(len(self.values))
@@ -254,6 +256,12 @@ def round_enclosures(values: Sequence[int], err: int, bits: int, digits: int) ->
     unit of error), so the per-row work is on small integers.  Rows whose enclosure does not
     decide the rounding are listed as undecided.
 
+    With v = |values[k]| >> s (b = bits - s fractional bits, error below e_small units) and
+    p10 = 10^(D-1-e), row k lies in decade e when 10^(D-1) <= floor(v p10 / 2^b) < 10^D,
+    i.e. ceil(10^(D-1) 2^b / p10) <= v < ceil(10^D 2^b / p10) (tested before any product);
+    then y = v p10 + 2^(b-1), q = floor(y / 2^b) is the rounding of every point of the
+    enclosure when errp <= y mod 2^b < 2^b - errp, errp = e_small p10.
+
     >>> col = round_enclosures([3 << 100, -(1 << 99)], 1, 102, 5)
     >>> col.values, col.bounds
     (['0.75000', '-0.12500'], ['5e-6', '5e-6'])
@@ -266,54 +274,63 @@ def round_enclosures(values: Sequence[int], err: int, bits: int, digits: int) ->
     mask = one - 1
     half = one >> 1
     lo_q, hi_q = 10 ** (digits - 1), 10**digits
-    decades = []
-    for e in (0, -1, 1, -2, 2, -3):
-        if digits - 1 - e < 0:
-            continue
-        p10 = 10 ** (digits - 1 - e)
-        if 0 <= e < digits:
-            def fmt(q: str, e: int = e) -> str:
-                return q[: e + 1] + "." + q[e + 1:] if e + 1 < len(q) else q
-        elif -6 <= e < 0:
-            def fmt(q: str, e: int = e) -> str:
-                return "0." + "0" * (-e - 1) + q
-        else:
-            def fmt(q: str, e: int = e) -> str:
-                return format_rounded(Rounded(1, q, e))
-        decades.append((p10, e_small * p10, fmt, f"5e{e - digits:d}"))
     n = len(values)
-    out_v = [""] * n
-    out_b = [""] * n
-    exact: dict[int, Fraction] = {}
     # vectorised over the batch (numpy object arrays of Python ints: the loops run in C)
     big = np.array(values, dtype=object)
     v = big >> s
-    neg = v < 0
-    av = np.where(neg, -v, v)
+    negative = n > 0 and min(values) < 0
+    neg = v < 0 if negative else np.zeros(n, dtype=bool)
+    av = np.where(neg, -v, v) if negative else v
+    exact: dict[int, Fraction] = {}
+    out_v = np.full(n, "", dtype=object)
+    out_b = np.full(n, "", dtype=object)
     todo = np.ones(n, dtype=bool)
     if err == 0:
         for k in np.nonzero(big == 0)[0].tolist():
             out_v[k], out_b[k], exact[k] = "0", "0", Fraction(0)
             todo[k] = False
     todo &= av > e_small
-    for p10, errp, fmt, bound in decades:
+    for e in (0, -1, 1, -2, 2, -3):
+        if digits - 1 - e < 0:
+            continue
         idx = np.nonzero(todo)[0]
         if not len(idx):
             break
-        t = av[idx] * p10
-        fl = t >> b  # the decade is decided by the value, not by its rounding
-        y = t + half
+        p10 = 10 ** (digits - 1 - e)
+        a = av[idx] if len(idx) < n else av
+        # the decade is decided by the value (floor(v p10 / 2^b)), not by its rounding
+        in_decade = (a >= -(-(lo_q << b) // p10)) & (a < -(-(hi_q << b) // p10))
+        sel = idx[in_decade]
+        if not len(sel):
+            continue
+        y = (a[in_decade] if len(sel) < len(a) else a) * p10 + half
         q = y >> b
         rem = y & mask
-        in_decade = (fl >= lo_q) & (fl < hi_q)
+        errp = e_small * p10
         # q == hi_q: rounds up into the next decade; left to the exact path
-        ok = in_decade & (q < hi_q) & (rem >= errp) & (rem < one - errp)
-        for k, qk in zip(idx[ok].tolist(), q[ok].tolist(), strict=True):
-            text = fmt(str(qk))
-            out_v[k] = "-" + text if neg[k] else text
-            out_b[k] = bound
+        ok = (q < hi_q) & (rem >= errp) & (rem < one - errp)
+        texts = _positional(list(map(str, q[ok].tolist())), e, digits)
+        rows = sel[ok]
+        if negative:
+            texts = ["-" + t if m else t for t, m in zip(texts, neg[rows].tolist(), strict=True)]
+        out_v[rows] = texts
+        out_b[rows] = f"5e{e - digits:d}"
         # rows in this decade are settled (rounded, or undecided at this precision)
-        todo[idx[in_decade]] = False
-    undecided = [k for k in range(n) if not out_v[k]]
-    nums = v.tolist()
-    return RoundedColumn(out_v, out_b, nums, b, exact, undecided)
+        todo[sel] = False
+    values_out: list[str] = out_v.tolist()
+    undecided = np.nonzero(out_v == "")[0].tolist()
+    return RoundedColumn(values_out, out_b.tolist(), v.tolist(), b, exact, undecided)
+
+
+def _positional(qs: list[str], e: int, digits: int) -> list[str]:
+    """The texts of D-digit strings ``qs`` with leading digit at 10^e (as format_rounded)."""
+    if 0 <= e < digits:
+        if e + 1 == digits:
+            return qs
+        if e == 0:
+            return [f"{q[0]}.{q[1:]}" for q in qs]
+        return [f"{q[: e + 1]}.{q[e + 1:]}" for q in qs]
+    if -6 <= e < 0:
+        lead = "0." + "0" * (-e - 1)
+        return [lead + q for q in qs]
+    return [format_rounded(Rounded(1, q, e)) for q in qs]

@@ -52,6 +52,36 @@ class Column:
         return ExactForm((Fraction(int(self.A[n]), 2), Fraction(int(self.B[n]), int(self.L))),
                          BASIS)
 
+    def texts(self) -> list[str]:
+        """``[str(self.form(n)) for n in 0..m]``, the same strings, computed with gmpy2 (the
+        reduction B/L and the decimal digits of thousand-digit integers are much faster than
+        through Fraction and int): terms ``p``, ``p/2``, ``p/pi``, ``p/(q*pi)``, positive
+        terms first, the 1/pi term before the rational one (ExactForm.__str__).
+
+        >>> c = list(columns(3))[-1]
+        >>> c.texts() == [str(c.form(n)) for n in range(c.m + 1)]
+        True
+        """
+        L = self.L
+        out = []
+        for a, b in zip(self.A, self.B, strict=True):
+            terms = []  # (negative, rational, text), sorted as ExactForm.__str__ orders them
+            if b:
+                g = gmpy2.gcd(b, L)
+                p, q = abs(b) // g, L // g
+                terms.append((b < 0, False, f"{p}/pi" if q == 1 else f"{p}/({q}*pi)"))
+            if a:
+                terms.append((a < 0, True, f"{abs(a) // 2}" if a % 2 == 0 else f"{abs(a)}/2"))
+            if not terms:
+                out.append("0")
+                continue
+            terms.sort(key=lambda t: (t[0], t[1]))
+            text = ("-" if terms[0][0] else "") + terms[0][2]
+            for neg, _, t in terms[1:]:
+                text += (" - " if neg else " + ") + t
+            out.append(text)
+        return out
+
 
 def columns(extent: int) -> Iterator[Column]:
     """Yield the octant columns m = 0..extent in order.
@@ -158,7 +188,9 @@ def enclosure_columns(extent: int, bits: int) -> Iterator[tuple[int, list[int], 
         S += K // (2 * m + 1)
         err_s += 2
         new = [4 * cur[0] - prev[0] - 2 * cur[1]]
-        new += [4 * cur[n] - prev[n] - cur[n + 1] - cur[n - 1] for n in range(1, m)]
+        # n = 1..m-1: 4 cur[n] - prev[n] - cur[n+1] - cur[n-1], over zipped slices
+        new += [(c << 2) - p - u - d for c, p, u, d in zip(cur[1:m], prev[1:m], cur[2:m + 1],
+                                                           cur[:m - 1], strict=True)]
         new.append(2 * cur[m] - cur[m - 1])
         new.append(S)
         err_new = max(6 * err_cur + err_prev, err_s)

@@ -30,7 +30,6 @@ from functools import lru_cache
 import gmpy2
 import mpmath
 import numpy as np
-from mpmath.calculus.quadrature import GaussLegendre
 
 LN10 = math.log(10)
 HALF_PI = math.pi / 2  # as a panel end: stands for the exact pi/2
@@ -62,15 +61,53 @@ def _gl_nodes(degree: int, prec: int) -> tuple[tuple[int, int, int, int], ...]:
     if hit is not None and hit[0] >= prec:
         return hit[1]
     prec = (prec + 255) // 256 * 256
-    with mpmath.workprec(prec):
-        raw = GaussLegendre(mpmath.mp).calc_nodes(degree, prec)
     out = []
-    for x, w in raw:
-        xs, xm, xe, _ = x._mpf_
-        ws, wm, we, _ = w._mpf_
-        out.append((-int(xm) if xs else int(xm), int(xe), -int(wm) if ws else int(wm), int(we)))
+    for x, w in _legendre_roots(3 * 2 ** (degree - 1), prec):
+        xm, xe = x.as_mantissa_exp()
+        wm, we = w.as_mantissa_exp()
+        out.append((int(xm), int(xe), int(wm), int(we)))
     _GL_CACHE[degree] = (prec, tuple(out))
     return _GL_CACHE[degree][1]
+
+
+def _legendre_roots(n: int, prec: int) -> list[tuple[gmpy2.mpfr, gmpy2.mpfr]]:
+    """Nodes x and weights w = 2 / ((1 - x^2) P_n'(x)^2) of the n-point Gauss-Legendre rule
+    (DLMF 3.5.19), to ``prec`` bits: Newton's iteration on P_n (evaluated by its three-term
+    recurrence, DLMF 18.9.1) from numpy's float64 roots, doubling the working precision at
+    each step (the error squares), then repeated at 1.5 ``prec`` bits until the step is
+    below 2^(-prec-8).  Pairs +x, -x, the positive roots in decreasing order."""
+    x0 = np.polynomial.legendre.leggauss(n)[0]
+    top = int(prec * 1.5)
+    eps = gmpy2.mpfr(2) ** (-prec - 8)
+    out: list[tuple[gmpy2.mpfr, gmpy2.mpfr]] = []
+
+    def newton(r: gmpy2.mpfr) -> tuple[gmpy2.mpfr, gmpy2.mpfr, gmpy2.mpfr]:
+        t1, t2 = gmpy2.mpfr(1), gmpy2.mpfr(0)
+        for j in range(1, n + 1):
+            t1, t2 = ((2 * j - 1) * r * t1 - (j - 1) * t2) / j, t1
+        dp = n * (r * t1 - t2) / (r * r - 1)  # P_n'(r)
+        return r - t1 / dp, t1 / dp, dp
+
+    for x in sorted((float(v) for v in x0 if v > 0), reverse=True):
+        p = 64
+        with gmpy2.context(gmpy2.get_context(), precision=p):
+            r = gmpy2.mpfr(x)
+        while p < top:
+            p = min(2 * p, top)
+            with gmpy2.context(gmpy2.get_context(), precision=p):
+                r = newton(gmpy2.mpfr(r))[0]
+        with gmpy2.context(gmpy2.get_context(), precision=top):
+            for _ in range(20):
+                r, step, dp = newton(r)
+                if abs(step) < eps:
+                    break
+            else:  # pragma: no cover - Newton converges quadratically from here
+                raise ArithmeticError("Gauss-Legendre nodes did not converge")
+            r, _, dp = newton(r)
+            w = 2 / ((1 - r * r) * dp * dp)
+            out.append((r, w))
+            out.append((-r, w))  # negated inside the context: exact at this precision
+    return out
 
 
 @lru_cache(maxsize=8)
@@ -177,29 +214,33 @@ def column(m: int, ns: Sequence[int], digits: int) -> list[mpmath.mpf]:
                 q = sg * gmpy2.sqrt(1 + sg * sg)
                 base += w * -gmpy2.expm1(-2 * m * gmpy2.asinh(sg)) / q
         pi = gmpy2.const_pi()
-        # The n-dependent part, sum_j osc_j sin^2(n x_j), for every n at once: fixed-point
-        # integers (guard bits cover the linear error growth of the three-term recurrence
-        # sin((n+1)x) = 2 cos(x) sin(nx) - sin((n-1)x)), vectorised over the nodes with numpy
-        # object arrays.  Nodes whose weight rounds to zero are dropped.
+        # The n-dependent part, sum_j osc_j sin^2(n x_j) = (sum_j osc_j - v_n)/2 with
+        # v_n = sum_j osc_j cos(2 n x_j), for every n at once: the weighted terms
+        # u_j = osc_j cos(2 n x_j) follow the three-term recurrence
+        # u(n+1) = 2 cos(2 x_j) u(n) - u(n-1) (Chebyshev T_n), run in fixed-point integers
+        # (64 guard bits cover its linear error growth), vectorised over the nodes with numpy
+        # object arrays of gmpy2 integers: one product, one shift and one difference per
+        # node and n, and a sum.  Nodes whose weight rounds to zero are dropped.
         fb = bits + 64
         one = gmpy2.mpfr(2) ** fb
+        mpz = gmpy2.mpz
         keep = [j for j, o in enumerate(osc) if o * one >= 1]
-        W = np.array([int(gmpy2.rint(osc[j] * one)) for j in keep] or [0], dtype=object)
-        C2 = np.array([int(gmpy2.rint(2 * gmpy2.cos(xs[j]) * one)) for j in keep] or [0],
-                      dtype=object)
-        s_prev = np.zeros(len(W), dtype=object)
-        s_cur = np.array([int(gmpy2.rint(gmpy2.sin(xs[j]) * one)) for j in keep] or [0],
-                         dtype=object)
+        W = np.array([mpz(gmpy2.rint(osc[j] * one)) for j in keep] or [mpz(0)], dtype=object)
+        C2 = np.array([mpz(gmpy2.rint(2 * gmpy2.cos(2 * xs[j]) * one)) for j in keep]
+                      or [mpz(0)], dtype=object)
+        total = mpz(W.sum())
+        u_prev, u_cur = W, (C2 * W) >> (fb + 1)
         want = sorted(set(ns))
-        sums: dict[int, int] = {0: 0}
+        sums: dict[int, gmpy2.mpz] = {0: mpz(0)}  # 2^(fb+1) sum_j osc_j sin^2(n x_j)
         n = 1
         for target in want:
+            if target == 0:
+                continue
             while n < target:
-                s_prev, s_cur = s_cur, ((C2 * s_cur) >> fb) - s_prev
+                u_prev, u_cur = u_cur, ((C2 * u_cur) >> fb) - u_prev
                 n += 1
-            if target >= 1:
-                sums[target] = int((W * (s_cur * s_cur)).sum())
-        scale = gmpy2.mpfr(2) ** (3 * fb)
+            sums[target] = total - mpz(u_cur.sum())
+        scale = gmpy2.mpfr(2) ** (fb + 1)
         out = [_to_mpf((base + gmpy2.mpfr(sums[n]) / scale) / pi) for n in ns]
     return out
 
@@ -240,8 +281,24 @@ def column_float(m: int, n_max: int | None = None) -> np.ndarray:
         base += float(np.sum(tw * -np.expm1(-2 * m * np.arcsinh(ts)) / (ts * np.sqrt(1 + ts * ts))))
     osc = 2 * w * np.exp(-e) / q
     ns = np.arange(n_max + 1, dtype=float)
-    s = np.sin(np.outer(ns, x))
-    return (base + (s * s) @ osc) / math.pi
+    # sin(n x_j)^2 for every n and node, computed in place in a reused scratch array (the
+    # same operations on the same C-contiguous layout as np.sin(np.outer(ns, x))**2, without
+    # a fresh allocation per column)
+    s = _scratch(len(ns) * len(x)).reshape(len(ns), len(x))
+    np.multiply(ns[:, None], x[None, :], out=s)
+    np.sin(s, out=s)
+    np.multiply(s, s, out=s)
+    return (base + s @ osc) / math.pi
+
+
+_SCRATCH: list[np.ndarray] = [np.empty(0)]
+
+
+def _scratch(size: int) -> np.ndarray:
+    """A float64 work array of ``size`` elements, reused between calls in this process."""
+    if _SCRATCH[0].size < size:
+        _SCRATCH[0] = np.empty(max(size, 2 * _SCRATCH[0].size))
+    return _SCRATCH[0][:size]
 
 
 def resistance_quad(m: int, n: int, digits: int) -> mpmath.mpf:

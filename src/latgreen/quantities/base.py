@@ -48,6 +48,9 @@ class EvaluatedBatch:
     rounded: RoundedColumn  # the value, or its real part for a complex quantity
     forms: list[ExactForm] | None
     imag: RoundedColumn | None = None  # the imaginary part of a complex quantity
+    # the exact forms already printed (str(form), form.how), where a provider prints them
+    # faster than the forms would; then ``forms`` may be None
+    texts: tuple[list[str], list[str]] | None = None
 
 
 class Provider:
@@ -105,6 +108,19 @@ class Provider:
         """The sites of each batch, in order, without computing anything (for planning)."""
         for b in self.batches(extent):
             yield b.sites
+
+    # a parallel work unit reruns the batches before its first one (the recurrence only):
+    # their cost per row relative to a row computed in full, for balancing the units
+    prefix_cost = 0.0
+
+    def batch_costs(self, extent: int, digits: int, verify: str) -> list[float] | None:
+        """Work per batch in units of one row's work, for balancing parallel work units
+        (None: balance by row counts).  Only the speed depends on it, never the output."""
+        return None
+
+    def batch_sizes(self, extent: int) -> list[int]:
+        """Rows of each batch, in order (for planning the work units)."""
+        return [len(s) for s in self.batch_sites(extent)]
 
     def batch_count(self, extent: int) -> int:
         """Number of batches of a table to ``extent`` (for the sampling of ``fast`` checks)."""

@@ -3,8 +3,10 @@
 from __future__ import annotations
 
 from collections.abc import Iterator, Sequence
+from operator import itemgetter
 
 import mpmath
+import numpy as np
 
 from ..exact import square as exact_square
 from ..exact.evaluate import evaluate_form, round_enclosures
@@ -33,7 +35,8 @@ class SquareResistance(Provider):
                           stop: int | None = None) -> Iterator[tuple[int, EvaluatedBatch]]:
         """Values from the fixed-point enclosure of the recurrence (one integer per site, a
         proven error bound per column); exact forms, if asked, from the rational recurrence
-        run alongside.  A row the enclosure cannot decide is evaluated from its exact form.
+        run alongside, printed by ``Column.texts`` (the strings of ``str(form)``).  A row
+        the enclosure cannot decide is evaluated from its exact form.
         Columns before ``start`` are run through (the recurrence needs them) but not rounded.
         """
         bits = exact_square.enclosure_bits(extent, digits)
@@ -47,8 +50,8 @@ class SquareResistance(Provider):
             for n in rc.undecided:
                 form = col.form(n) if col is not None else exact_square.resistance_form(m, n)
                 rc.put(n, evaluate_form(form, digits))
-            forms = [col.form(n) for n in range(m + 1)] if col is not None else None
-            yield m, EvaluatedBatch([(m, n) for n in range(m + 1)], rc, forms)
+            texts = (col.texts(), ["derived"] * (m + 1)) if col is not None else None
+            yield m, EvaluatedBatch([(m, n) for n in range(m + 1)], rc, None, texts=texts)
 
     def exact_form(self, site: Site) -> ExactForm | None:
         m, n = site
@@ -63,6 +66,24 @@ class SquareResistance(Provider):
     def batch_count(self, extent: int) -> int:
         return extent + 1
 
+    def batch_sizes(self, extent: int) -> list[int]:
+        return list(range(1, extent + 2))
+
+    # measured at N = 1000, 50 digits: running the enclosure recurrence over a row costs
+    # about 0.5 us, a row rounded, checked in float64 and rendered about 4.5 us
+    prefix_cost = 0.12
+
+    def batch_costs(self, extent: int, digits: int, verify: str) -> list[float] | None:
+        """Rows, plus the full-precision check of a column where it runs: about
+        (2000 + 0.05 m^2) rows' work at 50 digits (m = 1000: 0.23 s), scaled by digits."""
+        from ..tables.build import sampled
+
+        count = extent + 1
+        scale = digits / 50
+        return [m + 1 + ((2000 + 0.05 * m * m) * scale
+                         if verify == "full" or sampled(m, count) else 0.0)
+                for m in range(count)]
+
     def quad_sites(self, sites: list[Site], digits: int) -> list[mpmath.mpf]:
         m = sites[0][0]
         if m == 0:
@@ -73,8 +94,9 @@ class SquareResistance(Provider):
         m = sites[0][0]
         if m == 0:
             return [0.0 for _ in sites]
-        col = square_quadrature.column_float(m, max(s[1] for s in sites))
-        return [float(col[s[1]]) for s in sites]
+        ns = np.fromiter(map(itemgetter(1), sites), dtype=np.int64, count=len(sites))
+        col = square_quadrature.column_float(m, int(ns.max()))
+        return col[ns].tolist()
 
     def quad(self, site: Site, digits: int) -> mpmath.mpf:
         return square_quadrature.resistance_quad(site[0], site[1], digits)

@@ -20,6 +20,7 @@ consumed in batch order, so the output does not depend on the number of workers.
 
 from __future__ import annotations
 
+import bisect
 import multiprocessing
 import os
 import signal
@@ -27,6 +28,7 @@ import warnings
 from collections.abc import Callable, Iterator, Sequence
 from fractions import Fraction
 from multiprocessing.pool import Pool
+from pathlib import Path
 from typing import Any
 
 import numpy as np
@@ -115,22 +117,61 @@ def rows(provider: Provider, extent: int, digits: int, verify: str, with_exact: 
             on_batch(len(eb.sites))
 
 
-def plan_units(provider: Provider, extent: int, parts: int) -> list[tuple[int, int]]:
-    """Split the batches into ``parts`` contiguous work units of about equal row counts.
+def plan_units(sizes: Sequence[int], parts: int, costs: Sequence[float] | None = None,
+               prefix: float = 0.0) -> list[tuple[int, int]]:
+    """Split batches of ``sizes`` rows into at most ``parts`` contiguous work units.
 
     A unit is computed by one worker from scratch (the recurrence up to its first batch is
     run again there: cheap next to rounding, checking and rendering), so the number of units
-    stays small: the number of workers, or more where one unit's text would be large."""
-    sizes = [len(s) for s in provider.batch_sites(extent)]
-    total = sum(sizes)
+    stays small: the number of workers, or more where one unit's text would be large.
+
+    Without ``costs`` the units have about equal row counts (a serial build, which runs
+    them in one pass).  With ``costs`` (per batch, in units of one row's work) a unit
+    [a, b) costs sum(costs[a:b]) + prefix * sum(sizes[:a]) (the recurrence it runs again
+    before its first batch), and the split minimises the largest unit cost: the smallest
+    bound C for which cutting greedily at C needs no more than ``parts`` units.
+
+    >>> plan_units([1] * 10, 2)
+    [(0, 5), (5, 10)]
+    >>> plan_units([1] * 10, 2, [1.0] * 10, prefix=0.5)
+    [(0, 6), (6, 10)]
+    """
     parts = max(1, min(parts, len(sizes)))
-    bounds, acc, k = [0], 0, 1
-    for i, n in enumerate(sizes):
-        acc += n
-        if k < parts and acc >= total * k / parts and i + 1 < len(sizes):
-            bounds.append(i + 1)
-            k += 1
-    bounds.append(len(sizes))
+    if costs is None or parts == 1:
+        total = sum(sizes)
+        bounds, acc, k = [0], 0, 1
+        for i, n in enumerate(sizes):
+            acc += n
+            if k < parts and acc >= total * k / parts and i + 1 < len(sizes):
+                bounds.append(i + 1)
+                k += 1
+        bounds.append(len(sizes))
+        return list(zip(bounds[:-1], bounds[1:], strict=True))
+    cum_c = [0.0]
+    for c in costs:
+        cum_c.append(cum_c[-1] + c)
+    cum_s = [0]
+    for n in sizes:
+        cum_s.append(cum_s[-1] + n)
+    count = len(sizes)
+
+    def cut(limit: float) -> list[int]:
+        bounds = [0]
+        while bounds[-1] < count:
+            a = bounds[-1]
+            base = prefix * cum_s[a] - cum_c[a]
+            b = bisect.bisect_right(cum_c, limit - base, a + 1) - 1
+            bounds.append(max(b, a + 1))  # a batch costlier than the limit: a unit of its own
+        return bounds
+
+    lo, hi = 0.0, cum_c[-1] + prefix * cum_s[-1]
+    for _ in range(60):
+        mid = (lo + hi) / 2
+        if len(cut(mid)) - 1 <= parts:
+            hi = mid
+        else:
+            lo = mid
+    bounds = cut(hi)
     return list(zip(bounds[:-1], bounds[1:], strict=True))
 
 
@@ -156,11 +197,12 @@ def run_units(provider: Provider, extent: int, digits: int, verify: str, with_ex
               units: list[tuple[int, int]], todo: list[int],
               on_unit: Callable[[int, Chunk], None],
               on_rows: Callable[[int], None] | None = None, workers: int = 1,
-              scheduler: str | None = None) -> None:
+              scheduler: str | None = None, save_dir: Path | None = None) -> None:
     """Compute the work units ``todo`` (indices into ``units``) and hand each finished one
     to ``on_unit`` (in any order): serially in one pass, in a pool of forked workers, or on
     a Dask distributed cluster at ``scheduler``.  The text of a unit does not depend on
-    where it ran."""
+    where it ran.  Pool workers save their unit into the checkpoint directory ``save_dir``
+    themselves (if given) and hand ``on_unit`` a chunk without texts (``saved``)."""
     if not todo:
         return
     name, quantity = provider.lattice.name, provider.quantity
@@ -175,13 +217,15 @@ def run_units(provider: Provider, extent: int, digits: int, verify: str, with_ex
         return
     if workers <= 1 or len(todo) == 1:
         _run_serial(provider, extent, digits, verify, with_exact, units, todo, on_unit,
-                    on_rows)
+                    on_rows, save_dir)
         return
     progress = _progress_queue()
     pool = _pool(workers, progress)
     ok = False
     try:
-        it = pool.imap_unordered(indexed_unit_job, [(i, args(i)) for i in todo], chunksize=1)
+        jobs = [(i, args(i)) if save_dir is None else (i, args(i), str(save_dir))
+                for i in todo]
+        it = pool.imap_unordered(indexed_unit_job, jobs, chunksize=1)
         for _ in todo:
             while True:
                 try:
@@ -203,9 +247,12 @@ def run_units(provider: Provider, extent: int, digits: int, verify: str, with_ex
 def _run_serial(provider: Provider, extent: int, digits: int, verify: str, with_exact: bool,
                 units: list[tuple[int, int]], todo: list[int],
                 on_unit: Callable[[int, Chunk], None],
-                on_rows: Callable[[int], None] | None) -> None:
+                on_rows: Callable[[int], None] | None, save_dir: Path | None = None) -> None:
     """One pass over the batches from the first unit to do; units already done are passed
-    over (their batches are still computed where the recurrence needs them)."""
+    over (their batches are still computed where the recurrence needs them).  With
+    ``save_dir`` each unit is written there block by block (:class:`UnitWriter`)."""
+    from .checkpoint import UnitWriter
+
     want = set(todo)
     start = units[min(todo)][0]
     stop = units[max(todo)][1]
@@ -214,20 +261,39 @@ def _run_serial(provider: Provider, extent: int, digits: int, verify: str, with_
         for bi in range(a, b):
             unit_of[bi] = i
     parts: list[Chunk] = []
+    writer: UnitWriter | None = None
     current = None
-    for blk_index, blk in _indexed_rows(provider, extent, digits, verify, with_exact, start,
-                                        stop, want, unit_of):
-        i = unit_of[blk_index]
-        if current is not None and i != current:
-            on_unit(current, merge(parts))
+
+    def close(i: int) -> None:
+        nonlocal parts, writer
+        if writer is not None:
+            on_unit(i, writer.finish())
+            writer = None
+        else:
+            on_unit(i, merge(parts))
             parts = []
-        current = i
-        if i in want:
-            parts.append(render(blk))
-            if on_rows is not None:
-                on_rows(len(blk))
-    if current is not None and current in want:
-        on_unit(current, merge(parts))
+
+    try:
+        for blk_index, blk in _indexed_rows(provider, extent, digits, verify, with_exact,
+                                            start, stop, want, unit_of):
+            i = unit_of[blk_index]
+            if current is not None and i != current:
+                close(current)
+            if i != current and save_dir is not None:
+                writer = UnitWriter(save_dir, i)
+            current = i
+            if i in want:
+                if writer is not None:
+                    writer.add(render(blk))
+                else:
+                    parts.append(render(blk))
+                if on_rows is not None:
+                    on_rows(len(blk))
+        if current is not None and current in want:
+            close(current)
+    finally:
+        if writer is not None:
+            writer.abort()
 
 
 def _indexed_rows(provider: Provider, extent: int, digits: int, verify: str,
@@ -311,7 +377,8 @@ def _block(provider: Provider, eb: Any, checks: Sequence[Any], full: bool, digit
     method = "quadrature" if full else "quadrature-float64"
     need = digits if full else min(FAST_MIN_AGREEMENT, digits)
     rc = eb.rounded
-    origin = [k for k, site in enumerate(eb.sites) if not any(site)]
+    zero = (0,) * len(eb.sites[0]) if eb.sites else ()
+    origin = [eb.sites.index(zero)] if zero in eb.sites else []
     if getattr(eb, "imag", None) is not None:
         return _complex_block(provider, eb, checks, digits, with_exact)
     if eb.imag is not None:
@@ -331,7 +398,8 @@ def _block(provider: Provider, eb: Any, checks: Sequence[Any], full: bool, digit
     methods = [f"recurrence;{method}"] * len(eb.sites)
     for k in origin:
         agree[k], methods[k] = digits, "definition"
-    bad = [k for k, g in enumerate(agree) if g < need and k not in origin]
+    low = np.nonzero(np.asarray(agree) < need)[0].tolist() if agree else []
+    bad = [k for k in low if k not in origin]
     if bad:
         k = bad[0]
         raise VerificationError(
@@ -339,11 +407,16 @@ def _block(provider: Provider, eb: Any, checks: Sequence[Any], full: bool, digit
             f"{method} agree to only {agree[k]} digits (need {need})")
     forms = eb.forms if with_exact and eb.forms is not None else None
     n = len(eb.sites)
+    if with_exact and eb.texts is not None:
+        exacts, hows = eb.texts
+    else:
+        exacts = [str(f) for f in forms] if forms is not None else [""] * n
+        hows = [f.how for f in forms] if forms is not None else [""] * n
     return RowBlock(
         sites=eb.sites,
         values=rc.values,
-        exacts=[str(f) for f in forms] if forms is not None else [""] * n,
-        hows=[f.how for f in forms] if forms is not None else [""] * n,
+        exacts=exacts,
+        hows=hows,
         bounds=rc.bounds,
         methods=methods,
         agreements=agree,

@@ -158,6 +158,7 @@ def make_table(req: TableRequest) -> dict[str, Any]:
                              "add --resume to continue it, or --force to start over")
         ckpt.remove()
     units: list[tuple[int, int]] | None = None
+    sizes = provider.batch_sizes(extent)
     if req.resume and ckpt.exists():
         old, units = ckpt.plan()
         if old != params:
@@ -165,19 +166,19 @@ def make_table(req: TableRequest) -> dict[str, Any]:
                              f"parameters ({_params_text(old)}); use --force to start over")
         done = ckpt.done(len(units))
     else:
-        nb = sum(1 for _ in provider.batch_sites(extent))
-        parts = unit_count(_cluster_size(req.scheduler) if req.scheduler else workers, nb,
-                           need, req.scheduler is not None)
-        units = plan_units(provider, extent, parts)
+        parts = unit_count(_cluster_size(req.scheduler) if req.scheduler else workers,
+                           len(sizes), need, req.scheduler is not None)
+        parallel = req.scheduler is not None or workers > 1
+        costs = provider.batch_costs(extent, digits, verify) if parallel else None
+        units = plan_units(sizes, parts, costs, provider.prefix_cost)
         ckpt.start(params, units)
         done = set()
-    sizes = [len(s) for s in provider.batch_sites(extent)]
     bar.advance(sum(sum(sizes[a:b]) for i, (a, b) in enumerate(units) if i in done))
     todo = [i for i in range(len(units)) if i not in done]
     try:
         run_units(provider, extent, digits, verify, req.with_exact, units, todo,
                   on_unit=ckpt.save, on_rows=bar.advance, workers=workers,
-                  scheduler=req.scheduler)
+                  scheduler=req.scheduler, save_dir=ckpt.dir)
         descriptor = write_table(out, lat, req.quantity,
                                  (ckpt.chunk(i) for i in range(len(units))), meta,
                                  force=req.force)

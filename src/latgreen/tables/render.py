@@ -7,8 +7,11 @@ were split into chunks.
 
 from __future__ import annotations
 
+import operator
 import re
+from collections import Counter
 from dataclasses import dataclass
+from pathlib import Path
 from typing import Any
 
 UNSAFE = re.compile(r'[,"\\\n\r]')
@@ -33,6 +36,16 @@ class RowBlock:
         return len(self.sites)
 
 
+@dataclass(frozen=True)
+class Stored:
+    """A chunk's texts kept in files (UTF-8), with the sha256 they must have."""
+
+    csv: Path
+    json: Path
+    csv_sha256: str
+    json_sha256: str
+
+
 @dataclass
 class Chunk:
     """Rendered rows: ``csv`` lines each ending in a newline, ``json`` rows each preceded by
@@ -45,7 +58,8 @@ class Chunk:
     last: tuple[Any, ...] | None = None
     min_agreement: int | None = None
     full_rows: int = 0
-
+    stored: Stored | None = None  # the texts are in files (a checkpoint), not here
+    saved: bool = False  # a worker saved the texts into the checkpoint (they are not here)
 
 
 def merge(parts: list[Chunk]) -> Chunk:
@@ -65,39 +79,91 @@ def merge(parts: list[Chunk]) -> Chunk:
     )
 
 
+_INT_TEXT: dict[int, str] = {i: str(i) for i in range(4096)}
+
+
+def _int_texts(col: list[int]) -> list[str]:
+    """``[str(v) for v in col]`` with the texts of small non-negative integers (coordinates,
+    agreement digits) looked up instead of formatted."""
+    try:
+        return list(map(_INT_TEXT.__getitem__, col))
+    except KeyError:
+        return list(map(str, col))
+
+
+def _rows_text(parts: list[str | list[str]], n: int) -> str:
+    """``n`` rows of text, row k the concatenation of ``parts`` (a string shared by every
+    row, or a column of n strings).  Constant columns are folded into the strings around
+    them and the rest interleaved into one list, so the whole block is one str.join (no
+    Python-level work per row)."""
+    merged: list[str | list[str]] = []
+    for p in parts:
+        if isinstance(p, list) and p.count(p[0]) == n:  # the same text in every row
+            p = p[0]
+        if isinstance(p, str) and merged and isinstance(merged[-1], str):
+            merged[-1] += p
+        elif p != "":
+            merged.append(p)
+    width = len(merged)
+    flat: list[str] = [""] * (width * n)
+    for j, p in enumerate(merged):
+        flat[j::width] = [p] * n if isinstance(p, str) else p
+    return "".join(flat)
+
+
 def render(blk: RowBlock) -> Chunk:
     """CSV lines and JSON rows for a block (checked: every text field is plain ASCII without
     quotes, commas, backslashes or line ends, so no quoting or escaping is needed)."""
-    if not len(blk):
+    n = len(blk)
+    if not n:
         return Chunk()
     sites = blk.sites
-    if any(a >= b for a, b in zip(sites, sites[1:], strict=False)):
+    if not all(map(operator.lt, sites, sites[1:])):
         raise AssertionError(f"rows out of order near {sites[0]}")
     blob = "".join(blk.values) + "".join(blk.exacts) + "".join(blk.hows) + "".join(
         blk.bounds) + "".join(blk.methods) + "".join(blk.imags or ()) + "".join(
         blk.imag_bounds or ())
-    if not blob.isascii() or UNSAFE.search(blob):
+    if not blob.isascii() or any(c in blob for c in ',"\\\n\r'):
         raise AssertionError(f"unexpected character in the rows near {sites[0]}")
-    coords = [",".join(map(str, st)) for st in sites]
     if blk.imags is not None and blk.imag_bounds is not None:
         # complex values: value_re, value_im, exact, exact_how, error_bound_re,
         # error_bound_im, methods, agreement_digits
+        coords = [",".join(map(str, st)) for st in sites]
         cols = list(zip(coords, blk.values, blk.imags, blk.exacts, blk.hows, blk.bounds,
                         blk.imag_bounds, blk.methods, blk.agreements, strict=True))
         csv = "".join(",".join(map(str, r)) + "\n" for r in cols)
         js = "".join(f",\n[{r[0]}," + ",".join(f'"{x}"' for x in r[1:8]) + f",{r[8]}]"
                      for r in cols)
     else:
-        fields = list(zip(coords, blk.values, blk.exacts, blk.hows, blk.bounds, blk.methods,
-                          blk.agreements, strict=True))
-        csv = "".join(f"{c},{v},{x},{h},{e},{mt},{a}\n" for c, v, x, h, e, mt, a in fields)
-        js = "".join(f',\n[{c},"{v}","{x}","{h}","{e}","{mt}",{a}]'
-                     for c, v, x, h, e, mt, a in fields)
-    checked = [a for a, mt in zip(blk.agreements, blk.methods, strict=True)
-               if mt != "definition"]
+        for col in (blk.values, blk.exacts, blk.hows, blk.bounds, blk.methods,
+                    blk.agreements):
+            if len(col) != n:
+                raise ValueError("the columns of a block differ in length")
+        coord_cols = [_int_texts(list(map(operator.itemgetter(j), sites)))
+                      for j in range(len(sites[0]))]
+        agrees = _int_texts(blk.agreements)
+        texts = [blk.values, blk.exacts, blk.hows, blk.bounds, blk.methods]
+        c_parts: list[str | list[str]] = []
+        j_parts: list[str | list[str]] = [",\n["]
+        for j, c in enumerate(coord_cols):
+            c_parts += [",", c] if j else [c]
+            j_parts += [",", c] if j else [c]
+        for t in texts:
+            c_parts += [",", t]
+            j_parts += [',"', t, '"']
+        c_parts += [",", agrees, "\n"]
+        j_parts += [",", agrees, "]"]
+        csv = _rows_text(c_parts, n)
+        js = _rows_text(j_parts, n)
+    counts = Counter(blk.methods)
+    if "definition" in counts:
+        checked = [a for a, mt in zip(blk.agreements, blk.methods, strict=True)
+                   if mt != "definition"]
+    else:
+        checked = blk.agreements
     return Chunk(
-        csv=csv, json=js, rows=len(sites), first=sites[0], last=sites[-1],
+        csv=csv, json=js, rows=n, first=sites[0], last=sites[-1],
         min_agreement=min(checked) if checked else None,
-        full_rows=sum(1 for mt in blk.methods
+        full_rows=sum(k for mt, k in counts.items()
                       if mt != "definition" and "quadrature-float64" not in mt),
     )

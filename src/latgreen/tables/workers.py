@@ -25,24 +25,40 @@ def _report(k: int) -> None:
 UnitArgs = tuple[str, str, str | None, int, int, str, bool, int, int]
 
 
-def unit_job(args: UnitArgs) -> Any:
+def unit_job(args: UnitArgs, save_dir: str | None = None, index: int = 0) -> Any:
     """One work unit: batches [start, stop) of a table, computed, checked and rendered.
-    (lattice, quantity, energy, extent, digits, verify, with_exact, start, stop)"""
+    (lattice, quantity, energy, extent, digits, verify, with_exact, start, stop).  With
+    ``save_dir`` the unit is written there as unit ``index`` block by block, and the chunk
+    returned carries no texts."""
     from ..quantities import get_provider
     from .build import rows
     from .render import merge, render
 
     lattice, quantity, energy, extent, digits, verify, with_exact, start, stop = args
     p = get_provider(lattice, quantity, energy)
-    return merge([render(blk) for blk in
-                  rows(p, extent, digits, verify, with_exact, start, stop, on_batch=_report)])
+    blocks = rows(p, extent, digits, verify, with_exact, start, stop, on_batch=_report)
+    if save_dir is None:
+        return merge([render(blk) for blk in blocks])
+    from pathlib import Path
+
+    from .checkpoint import UnitWriter
+
+    w = UnitWriter(Path(save_dir), index)
+    try:
+        for blk in blocks:
+            w.add(render(blk))
+        return w.finish()
+    except BaseException:
+        w.abort()
+        raise
 
 
-def indexed_unit_job(job: tuple[int, UnitArgs]) -> Any:
-    """(index, unit arguments) -> (index, chunk): for pools and clusters that return results
-    in any order."""
-    i, args = job
-    return i, unit_job(args)
+def indexed_unit_job(job: tuple[int, UnitArgs] | tuple[int, UnitArgs, str]) -> Any:
+    """(index, unit arguments[, checkpoint directory]) -> (index, chunk): for pools and
+    clusters that return results in any order.  With a checkpoint directory (a worker on the
+    machine of the build) the unit saves itself there and returns its chunk without texts."""
+    i, args = job[0], job[1]
+    return i, unit_job(args, job[2] if len(job) > 2 else None, i)
 
 
 def ignore_sigint() -> None:
