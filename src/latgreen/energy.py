@@ -7,12 +7,19 @@ the binary float nearest to it.  Binary floats themselves are refused.
 
 Conventions (DESIGN.md): G(E; r) = <0|(E - H)^-1|r>, analytic off the band; for a real E inside
 the band the retarded limit E + i0 is taken, so only Im E >= 0 is accepted (for Im E < 0 use
-G(conj E) = conj G(E)).  Refused on the square lattice, with a one-line message:
+G(conj E) = conj G(E)).  The real energies where G(E; 0) is infinite depend on the lattice
+(``lattice`` argument; the default is the square lattice) and are refused with a one-line
+message:
 
-* E = +-4 (band edge): G(E; 0, 0) diverges logarithmically; the finite band-edge limit
+* square, E = +-4 (band edge): G(E; 0, 0) diverges logarithmically; the finite band-edge limit
   2[G(0) - G(r)] is the ``resistance`` quantity;
-* E = 0 (band centre): the density of states diverges logarithmically, so Im G(0 + i0; 0, 0)
-  is infinite.
+* square, E = 0 (band centre): the density of states diverges logarithmically, so
+  Im G(0 + i0; 0, 0) is infinite;
+* bcc, E = 0: the density of states diverges (like log^2|E|), so Im G(0 + i0; 0) is infinite;
+* fcc, E = -4 (lower band edge): the density of states diverges logarithmically.
+
+The sc lattice has no such point: G(E; 0) is finite on the whole real axis (at the band
+edges +-6 it is Watson's integral).
 """
 
 from __future__ import annotations
@@ -89,12 +96,24 @@ class Energy:
         return "e" + str(self).replace("-", "m").replace("+", "p").replace("/", "_")
 
 
-def check_energy(er: Fraction, ei: Fraction, text: str) -> Energy:
-    """The square lattice's refusals (band edges, band centre, lower half plane)."""
+SINGULAR: dict[str, dict[Fraction, str]] = {
+    "bcc": {Fraction(0): "the bcc band centre E = 0 where the density of states diverges "
+                         "(like log^2|E|) and Im G(E+i0;0) is infinite"},
+    "fcc": {Fraction(-4): "the fcc lower band edge E = -4 where the density of states "
+                          "diverges logarithmically and G(E;0) is infinite"},
+}
+
+
+def check_energy(er: Fraction, ei: Fraction, text: str, lattice: str = "square") -> Energy:
+    """The refusals of ``lattice`` (module docstring) and of the lower half plane."""
     if ei < 0:
         raise InputError(
             f"energy {text!r} has a negative imaginary part: latgreen takes the retarded "
             "branch E + i0 (Im E >= 0); use the complex conjugate, G(conj E) = conj G(E)")
+    if lattice != "square":
+        if ei == 0 and er in SINGULAR.get(lattice, {}):
+            raise InputError(f"energy {text!r} is {SINGULAR[lattice][er]}")
+        return Energy(er, ei)
     if ei == 0 and abs(er) == 4:
         raise InputError(
             f"energy {text!r} is on the band edge +-4 where G(E;0,0) diverges "
@@ -107,8 +126,9 @@ def check_energy(er: Fraction, ei: Fraction, text: str) -> Energy:
     return Energy(er, ei)
 
 
-def parse_energy(text: object) -> Energy:
-    """Exact energy from a string; ints, Fractions and Energy objects pass through checked.
+def parse_energy(text: object, lattice: str = "square") -> Energy:
+    """Exact energy from a string; ints, Fractions and Energy objects pass through checked
+    (against the singular energies of ``lattice``, a lattice name).
 
     >>> parse_energy("9/2"), str(parse_energy("0.5j"))
     (Energy(re=Fraction(9, 2), im=Fraction(0, 1)), '0.5j')
@@ -118,12 +138,12 @@ def parse_energy(text: object) -> Energy:
     latgreen.errors.InputError: energy '1.5-0.5j' has a negative imaginary part: ...
     """
     if isinstance(text, Energy):
-        return check_energy(text.re, text.im, str(text))
+        return check_energy(text.re, text.im, str(text), lattice)
     if isinstance(text, bool | float | complex):
         raise InputError(f"energy {text!r} is a binary float: pass a string ('4.1') or a "
                          "Fraction instead")
     if isinstance(text, int | Fraction):
-        return check_energy(Fraction(text), Fraction(0), str(text))
+        return check_energy(Fraction(text), Fraction(0), str(text), lattice)
     if not isinstance(text, str):
         raise InputError(f"cannot use {text!r} as an energy: pass a string such as '9/2' or "
                          "'1.5+0.5j'")
@@ -150,10 +170,10 @@ def parse_energy(text: object) -> Energy:
     except (ValueError, ZeroDivisionError):
         raise InputError(f"cannot parse energy {text!r}: expected e.g. '4.5', '9/2', "
                          "'1.5+0.5j', '0.5j'") from None
-    return check_energy(er, ei, text)
+    return check_energy(er, ei, text, lattice)
 
 
-def parse_energy_grid(text: str) -> list[Energy]:
+def parse_energy_grid(text: str, lattice: str = "square") -> list[Energy]:
     """``A:B:COUNT`` -> COUNT equally spaced exact real energies from A to B inclusive
     (COUNT >= 2; COUNT = 1 gives A alone).  Every point goes through the energy checks, so a
     grid that hits 0 or +-4 is refused with the offending point named.
@@ -171,7 +191,7 @@ def parse_energy_grid(text: str) -> list[Energy]:
         raise InputError(f"energy grid {text!r}: COUNT must be an integer") from None
     if count < 1 or count > 100_000:
         raise InputError(f"energy grid {text!r}: COUNT must be between 1 and 100000")
-    a, b = parse_energy(parts[0]), parse_energy(parts[1])
+    a, b = parse_energy(parts[0], lattice), parse_energy(parts[1], lattice)
     if not (a.is_real and b.is_real):
         raise InputError(f"energy grid {text!r}: the end points must be real")
     if count == 1:
@@ -180,5 +200,6 @@ def parse_energy_grid(text: str) -> list[Energy]:
     out = []
     for k in range(count):
         x = a.re + k * step
-        out.append(check_energy(x, Fraction(0), f"{_text(x)} (point {k} of the grid {text})"))
+        out.append(check_energy(x, Fraction(0), f"{_text(x)} (point {k} of the grid {text})",
+                                lattice))
     return out

@@ -63,7 +63,7 @@ def get_provider(lattice: str, quantity: str, energy: object = None) -> Provider
     if factory is not None:
         if energy is None:
             raise InputError(f"quantity {quantity!r} needs an energy (--energy E)")
-        return factory(parse_energy(energy))
+        return factory(parse_energy(energy, lat.name))
     if energy is not None:
         raise InputError(f"quantity {quantity!r} takes no energy")
     if quantity == "dos":

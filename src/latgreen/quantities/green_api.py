@@ -155,8 +155,8 @@ def _square_green(site: Sequence[object], E: Energy, digits: int) -> GreenResult
                        ("recurrence", "quadrature"), agree)
 
 
-def _real_energy(energy: object, what: str) -> Energy:
-    E = parse_energy(energy)
+def _real_energy(energy: object, what: str, lattice: str = "square") -> Energy:
+    E = parse_energy(energy, lattice)
     if not E.is_real:
         raise InputError(f"the {what} is taken at real energies (E + i0); got {E}: for complex "
                          "E use the green quantity")
@@ -273,7 +273,7 @@ def green(lattice: str, site: Sequence[object], energy: object, digits: int = 50
     """
     b = _backend(lattice, "green")
     digits = check_digits(digits)
-    return b.green(site, parse_energy(energy), digits)
+    return b.green(site, parse_energy(energy, get_lattice(lattice).name), digits)
 
 
 def dos(lattice: str, energy: object, digits: int = 50) -> Result:
@@ -285,7 +285,7 @@ def dos(lattice: str, energy: object, digits: int = 50) -> Result:
     """
     b = _backend(lattice, "dos")
     digits = check_digits(digits)
-    return b.dos(_real_energy(energy, "density of states"), digits)
+    return b.dos(_real_energy(energy, "density of states", get_lattice(lattice).name), digits)
 
 
 def local_dos(lattice: str, site: Sequence[object], energy: object, digits: int = 50) -> Result:
@@ -293,7 +293,10 @@ def local_dos(lattice: str, site: Sequence[object], energy: object, digits: int 
     (the off-diagonal ones can be negative)."""
     b = _backend(lattice, "local dos")
     digits = check_digits(digits)
-    return b.local_dos(site, _real_energy(energy, "local density of states"), digits)
+    return b.local_dos(site, _real_energy(energy, "local density of states",
+                                          get_lattice(lattice).name), digits)
 
+
+from . import cubic_green  # noqa: E402, F401 - registers the sc and bcc backends
 
 __all__ = ["BACKENDS", "ZERO", "GreenBackend", "GreenResult", "dos", "green", "local_dos"]

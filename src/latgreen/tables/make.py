@@ -344,6 +344,19 @@ def build_catalogue(root: Path, progress: bool = True) -> list[tuple[str, dict[s
     return out
 
 
+DOS_METHODS = {
+    "square": {"primary": "closed form K(1 - E^2/16)/(2 pi^2) as a python-flint ball, "
+                          "correctly rounded",
+               "check": "-Im of the quadrature of the reduced integral for G(E+i0;0,0)/pi, at "
+                        "full digits for every row"},
+    **{lat: {"primary": f"-Im G(E+i0;0)/pi from the closed form of G(E;0) ({how}) as a "
+                        "python-flint ball, correctly rounded",
+             "check": "-Im of the 1-D integral over k3 of the square lattice's closed form, "
+                      "/pi, at full digits for every row"}
+       for lat, how in (("sc", "Joyce 1973"), ("bcc", "(1/E)(2K(u)/pi)^2"))},
+}
+
+
 def make_dos_table(lattice: str, energies: str, digits: int, out: Path, force: bool = False,
                    progress: bool = True) -> dict[str, Any]:
     """The density of states on an energy grid ``A:B:COUNT`` (exact points), every value
@@ -354,7 +367,10 @@ def make_dos_table(lattice: str, energies: str, digits: int, out: Path, force: b
 
     lat = get_lattice(lattice)
     digits = check_digits(digits)
-    grid = parse_energy_grid(energies)
+    if lat.name not in DOS_METHODS:
+        raise InputError(f"a dos table is not available for the {lat.name} lattice; available "
+                         f"for: {', '.join(sorted(DOS_METHODS))}")
+    grid = parse_energy_grid(energies, lat.name)
     out = Path(out)
     check_output_dir(out, force)
     bar = Progress(len(grid), f"{lat.name}-dos {len(grid)} energies", enabled=progress)
@@ -367,10 +383,7 @@ def make_dos_table(lattice: str, energies: str, digits: int, out: Path, force: b
             bar.advance(1)
 
     meta = {"digits": digits, "energies": energies, "grid": [str(E) for E in grid],
-            "methods": {"primary": "closed form K(1 - E^2/16)/(2 pi^2) as a python-flint ball, "
-                                   "correctly rounded",
-                        "check": "-Im of the quadrature of the reduced integral for G(E+i0;0,0)"
-                                 "/pi, at full digits for every row"}}
+            "methods": DOS_METHODS[lat.name]}
     d = write_energy_table(out, lat, "dos", rows(), meta, force=force)
     bar.finish(f"{len(grid):,} rows written to {out}")
     return d

@@ -1,0 +1,260 @@
+"""sc and bcc: G(E; r), the density of states and the local DOS at an exact energy.
+
+Registered in ``green_api.BACKENDS`` (bottom of this module).  What is offered, and how each
+printed digit is confirmed (two independent methods every time):
+
+* G(E; 0), any admissible E (complex, real off the band, real on the band as E + i0; the sc
+  also at E = 0): the closed forms of ``methods/cubic_green_closed.py`` (Joyce's for sc,
+  (1/E)(2K(u)/pi)^2 for bcc) as certified acb balls, each component correctly rounded;
+  confirmed on every printed digit by the 1-D integral over k3 of the square lattice's
+  closed form (``methods/cubic_green_integral.py``).
+* G(E; r), r != 0, for complex E or real E outside the band or on its edges (the bcc
+  quantity is real there): the 1-D integral (10 guard digits) confirmed by the reduced 2-D
+  polar Gauss-Legendre rule (``methods/cubic_quadrature.green_energy_quad``).  Both are
+  quadratures: the printed digits are those of the 1-D integral rounded with its 10 guard
+  digits, and the error bound is an estimate (said in ``notes``).  For real E strictly inside
+  the band only the 1-D integral works here (the 2-D rule needs the integrand off its
+  singular curve), so such requests are refused with one line.
+* dos(E) = -Im G(E + i0; 0)/pi: the closed form's ball, confirmed by the 1-D integral; 0
+  outside the band and at its edges (G is real there).
+* local_dos(E; r): r = 0 as dos; r != 0 only outside the band (0 by definition: G real);
+  refused inside the band (one method only, as for green).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from fractions import Fraction
+from typing import Any
+
+import mpmath
+
+from ..energy import Energy
+from ..errors import InputError, VerificationError
+from ..exact.complex_eval import ComplexRounded, certify_complex
+from ..exact.forms import ExactForm
+from ..lattices import Site, get_lattice
+from ..methods.cubic_green_closed import origin_ball
+from ..methods.cubic_green_integral import green_integral
+from ..methods.cubic_quadrature import green_energy_quad
+from ..rounding import ZERO, Rounded, agreement_digits, round_interval
+from . import Result
+from .green_api import (
+    BACKENDS,
+    GreenBackend,
+    GreenResult,
+    _certify_real,
+    _frac,
+    _modulus_bound,
+    component_agreement,
+)
+from .square_green import quad_digits_needed
+
+LOG2_10 = 3.3219280948873623
+CLOSED_TEXT = {
+    "sc": "G(E;0) = (1/E)(1 - 9 xi^4)/((1 - xi)^3 (1 + 3 xi)) (2 K(k^2)/pi)^2, "
+          "k^2 = 16 xi^3/((1 - xi)^3 (1 + 3 xi)), xi^2 = (1 - sqrt(1 - 4/E^2))/(1 + "
+          "sqrt(1 - 36/E^2)) (Joyce 1973; branches as documented)",
+    "bcc": "G(E;0) = (1/E)(2 K(u)/pi)^2, u = (1 - sqrt(1 - 64/E^2))/2 (branches as "
+           "documented)",
+}
+
+
+class ClosedForm:
+    """The printable closed form of G(E; 0) (``GreenResult.exact``)."""
+
+    how = "derived"
+
+    def __init__(self, lattice: str) -> None:
+        self.lattice = lattice
+        self.how = "derived" if lattice == "bcc" else "from the literature (Joyce 1973)"
+
+    def __str__(self) -> str:
+        return CLOSED_TEXT[self.lattice]
+
+
+def parity(lattice: str, c: Site) -> int:
+    """The sublattice sign exponent: G(-E; r) = -(-1)^parity G(E; r)."""
+    return (sum(c) if lattice == "sc" else c[0]) % 2
+
+
+def zero_parts(lattice: str, E: Energy, c: Site) -> tuple[bool, bool]:
+    """(Re G = 0, Im G = 0) exactly: Im G = 0 for real E outside the band or on its edges
+    (G real there); with G(-x + i0) = -(-1)^p conj G(x + i0) and, for E = iy, -E = conj E:
+    at E = iy and at E = 0 (sc) Re G = 0 for even parity p, Im G = 0 for odd."""
+    z = get_lattice(lattice).band[1]
+    if E.im == 0 and abs(E.re) >= z:
+        return False, True
+    if E.re == 0:
+        even = parity(lattice, c) == 0
+        return even, not even
+    return False, False
+
+
+def _start_bits(digits: int) -> int:
+    return -(-(math.ceil((digits + 2) * LOG2_10) + 64) // 64) * 64
+
+
+def _inside(lattice: str, E: Energy) -> bool:
+    lo, hi = get_lattice(lattice).band
+    return E.im == 0 and lo < E.re < hi
+
+
+def _origin(lattice: str, s: Site, E: Energy, digits: int) -> GreenResult:
+    zero = zero_parts(lattice, E, (0, 0, 0))
+    v = certify_complex(lambda bits: origin_ball(lattice, E, bits), _start_bits(digits),
+                        digits, zero, f"G({E};0)")
+    dps = quad_digits_needed(v, digits)
+    with mpmath.workdps(dps + 5):
+        q = green_integral(lattice, E, (0, 0, 0), dps)
+        qf = (_frac(mpmath.re(q)), _frac(mpmath.im(q)))
+    agree = component_agreement(v.center, qf, zero, digits)
+    if agree < digits:
+        raise VerificationError(f"{lattice} G({E}; 0): closed form and 1-D integral agree to "
+                                f"only {agree} of {digits} digits")
+    return GreenResult(lattice, s, (0, 0, 0), E, digits, str(v.re), str(v.im),
+                       ClosedForm(lattice), v.re.half_ulp(), v.im.half_ulp(),
+                       _modulus_bound([v.re, v.im]), ("closed-form", "integral"), agree,
+                       basis="K(m): complete elliptic integral of parameter m (DLMF 19.2)")
+
+
+def _round_estimate(x: Any, tol: Any, digits: int, what: str) -> tuple[Rounded, Fraction]:
+    """Round x known to +-tol (an estimate) to ``digits`` digits."""
+    lo, hi = _frac(x - tol), _frac(x + tol)
+    den = lo.denominator * hi.denominator
+    r = round_interval(lo.numerator * hi.denominator, hi.numerator * lo.denominator, den,
+                       digits)
+    if r is None:
+        raise InputError(f"{what}: the value lies too close to a rounding boundary at "
+                         f"{digits} digits; ask for one digit more or less")
+    assert isinstance(r, Rounded)
+    return r, _frac(x)
+
+
+def _site(lattice: str, s: Site, c: tuple[int, int, int], E: Energy,
+          digits: int) -> GreenResult:
+    if _inside(lattice, E):
+        lo, hi = get_lattice(lattice).band
+        raise InputError(f"{lattice} G(E; r) at r != 0 for real E inside the band ({lo}, {hi}) "
+                         "has one method here (the 1-D integral) and no independent check: "
+                         "ask at a complex energy or a real one outside the band")
+    zero = zero_parts(lattice, E, c)
+    with mpmath.workdps(30):  # scouting: how much smaller is the smaller component?
+        g = green_integral(lattice, E, c, 15)
+        comps = [abs(x) for x, zz in ((mpmath.re(g), zero[0]), (mpmath.im(g), zero[1]))
+                 if not zz]
+        small = min(comps) if comps else abs(g)
+        extra = max(0, int(mpmath.ceil(mpmath.log10(abs(g) / small)))) if small else 30
+    dps = digits + extra + 10
+    what = f"{lattice} G({E}; {c})"
+    with mpmath.workdps(dps + 10):
+        a = green_integral(lattice, E, c, dps)
+        b = green_energy_quad(lattice, c, E, digits + extra + 3)
+        tol = mpmath.mpf(10) ** -(digits + extra + 8) * abs(a)
+        parts: list[Rounded] = []
+        centre: list[Fraction] = []
+        for x, zz in ((mpmath.re(a), zero[0]), (mpmath.im(a), zero[1])):
+            if zz:
+                if abs(x) > tol:  # pragma: no cover - a symmetry or the integral is wrong
+                    raise VerificationError(f"{what}: a component that is 0 by symmetry is "
+                                            "not")
+                parts.append(ZERO)
+                centre.append(Fraction(0))
+            else:
+                r, cx = _round_estimate(x, tol, digits, what)
+                parts.append(r)
+                centre.append(cx)
+        bf = (_frac(mpmath.re(b)), _frac(mpmath.im(b)))
+    v = ComplexRounded(parts[0], parts[1], (centre[0], centre[1]), 0)
+    agree = component_agreement(v.center, bf, zero, digits)
+    if agree < digits:
+        raise VerificationError(f"{what}: 1-D integral and 2-D rule agree to only {agree} of "
+                                f"{digits} digits")
+    return GreenResult(lattice, s, c, E, digits, str(v.re), str(v.im), None,
+                       v.re.half_ulp(), v.im.half_ulp(), _modulus_bound([v.re, v.im]),
+                       ("integral", "quadrature"), agree,
+                       notes=("no closed form at r != 0 here: the value is the 1-D integral "
+                              "with 10 guard digits (error estimate, not a proof), confirmed "
+                              f"on {agree} digits by the reduced 2-D rule",),
+                       basis="")
+
+
+def _green(lattice: str) -> Any:
+    def green(site: Sequence[object], E: Energy, digits: int) -> GreenResult:
+        lat = get_lattice(lattice)
+        s = lat.site(site)
+        c = lat.canonical(s)
+        if c[0] > 60:
+            raise InputError(f"site {c}: G at an energy is offered for coordinates up to 60")
+        if not any(c):
+            return _origin(lattice, s, E, digits)
+        return _site(lattice, s, (c[0], c[1], c[2]), E, digits)
+
+    green.__doc__ = f"G(E; site) of the {lattice} lattice (module docstring)."
+    return green
+
+
+def _zero_result(lattice: str, quantity: str, s: Site, c: Site, E: Energy,
+                 digits: int) -> Result:
+    lo, hi = get_lattice(lattice).band
+    return Result(lattice, quantity, s, c, digits, "0", ExactForm((Fraction(0),), ()), "0",
+                  ("definition",), digits,
+                  notes=(f"outside the open band ({lo}, {hi}) G is real: the density is 0",),
+                  energy=str(E))
+
+
+def _density(lattice: str, quantity: str, s: Site, E: Energy, digits: int) -> Result:
+    c = (0, 0, 0)
+    if not _inside(lattice, E):
+        return _zero_result(lattice, quantity, s, c, E, digits)
+    from flint import arb, ctx
+
+    def build(bits: int) -> Any:
+        b = origin_ball(lattice, E, bits)
+        old = ctx.prec
+        try:
+            ctx.prec = bits + 30
+            return -b.imag / arb.pi()
+        finally:
+            ctx.prec = old
+
+    r, centre = _certify_real(build, _start_bits(digits), digits, f"the {quantity} at E = {E}")
+    dps = digits + 3
+    with mpmath.workdps(dps + 5):
+        q = -mpmath.im(green_integral(lattice, E, c, dps)) / mpmath.pi
+        qf = _frac(q)
+    agree = agreement_digits(centre, qf, digits)
+    if agree < digits:
+        raise VerificationError(f"{lattice} {quantity} at E = {E}: closed form and 1-D "
+                                f"integral agree to only {agree} of {digits} digits")
+    return Result(lattice, quantity, s, c, digits, str(r), None, r.half_ulp(),
+                  ("closed-form", "integral"), agree,
+                  notes=(f"-Im of {CLOSED_TEXT[lattice]}, divided by pi",), energy=str(E))
+
+
+def _dos(lattice: str) -> Any:
+    def dos(E: Energy, digits: int) -> Result:
+        return _density(lattice, "dos", (0, 0, 0), E, digits)
+
+    return dos
+
+
+def _local_dos(lattice: str) -> Any:
+    def local_dos(site: Sequence[object], E: Energy, digits: int) -> Result:
+        lat = get_lattice(lattice)
+        s = lat.site(site)
+        c = lat.canonical(s)
+        if not any(c):
+            return _density(lattice, "local-dos", s, E, digits)
+        if not _inside(lattice, E):
+            return _zero_result(lattice, "local-dos", s, c, E, digits)
+        lo, hi = lat.band
+        raise InputError(f"the {lattice} local DOS at r != 0 inside the band ({lo}, {hi}) has "
+                         "one method here (the 1-D integral) and no independent check")
+
+    return local_dos
+
+
+for _name in ("sc", "bcc"):
+    BACKENDS[_name] = GreenBackend(_green(_name), _dos(_name), _local_dos(_name))
