@@ -95,6 +95,52 @@ def test_moment_series_at_large_energy():
         assert rel(g, s) < mpmath.mpf(10) ** -35
 
 
+def _fcc_walks(N: int) -> list[int]:
+    """Closed walks of length 0..N on the fcc lattice, counted by brute force on a grid."""
+    import numpy as np
+
+    L = 2 * N + 3
+    a = np.zeros((L, L, L), dtype=np.int64)
+    a[0, 0, 0] = 1
+    steps = [(x, y, 0) for x in (1, -1) for y in (1, -1)]
+    steps = [p for q in steps for p in {q, (q[0], 0, q[1]), (0, q[0], q[1])}]
+    assert len(set(steps)) == 12
+    out = [1]
+    for _ in range(N):
+        a = sum(np.roll(a, st, axis=(0, 1, 2)) for st in set(steps))
+        out.append(int(a[0, 0, 0]))
+    return out
+
+
+def test_fcc_band_edge_and_moment_series():
+    """G_fcc(12; 0) = I_fcc/4 with I_fcc = 0.448220394388381432116385450017 (Watson 1939;
+    Glasser & Zucker 1977; 12 - eps = 4(3 - sum c_i c_j), NOTES A); the large-E series
+    against closed-walk counts recounted by brute force (first terms 1, 0, 12, 48, 540, 4320,
+    42240: OEIS A002899, from memory)."""
+    g = latgreen.green("fcc", (0, 0, 0), energy="12", digits=30)
+    assert g.exact.how == "identified" and g.methods == ("closed-form", "quadrature")
+    with mpmath.workdps(40):
+        assert rel(g.mpc.real, mpmath.mpf("0.448220394388381432116385450017") / 4) < 1e-29
+    c = _fcc_walks(16)  # 12^16 < 2^63
+    assert c[:7] == [1, 0, 12, 48, 540, 4320, 42240]
+    with mpmath.workdps(40):
+        for E in (300, -300):
+            s = sum(mpmath.mpf(v) / mpmath.mpf(E) ** (k + 1) for k, v in enumerate(c))
+            tail = mpmath.mpf(12) ** 17 / mpmath.mpf(300) ** 18
+            b = ball_mpc(origin_ball("fcc", parse_energy(str(E), "fcc"), 200))
+            assert abs(b - s) < 2 * tail
+
+
+@pytest.mark.parametrize("E", ["13", "-5", "-3+2j", "14+0.5j", "4j"])
+def test_fcc_closed_form_vs_quadrature(E):
+    """The identified fcc closed form against the reduced 2-D rule (30 digits)."""
+    e = parse_energy(E, "fcc")
+    with mpmath.workdps(40):
+        a = ball_mpc(origin_ball("fcc", e, 200))
+        b = green_energy_quad("fcc", (0, 0, 0), e, 30)
+        assert rel(a, b) < mpmath.mpf(10) ** -30
+
+
 # ------------------------------------------------------------------ two methods of ours
 
 @pytest.mark.parametrize(("lattice", "E"), [
@@ -261,7 +307,10 @@ def test_local_dos():
     (lambda: latgreen.green("sc", (0, 0, 0), energy="1-1j"), "negative imaginary"),
     (lambda: latgreen.green("sc", (0, 0, 0), energy=1.5), "binary float"),
     (lambda: latgreen.dos("sc", energy="1+1j"), "real energies"),
-    (lambda: latgreen.green("fcc", (0, 0, 0), energy="13"), "not available"),
+    (lambda: latgreen.green("fcc", (0, 0, 0), energy="3"), "inside the band"),
+    (lambda: latgreen.dos("fcc", energy="3"), "inside the band"),
+    (lambda: latgreen.green("fcc", (1, 1, 0), energy="13"), "one method"),
+    (lambda: latgreen.green("fcc", (0, 0, 0), energy="-4"), "lower band edge"),
     (lambda: latgreen.green("sc", (61, 0, 0), energy="7"), "up to 60"),
 ])
 def test_bad_inputs(call, words):

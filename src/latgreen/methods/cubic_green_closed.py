@@ -1,5 +1,5 @@
 """Closed forms of G(E; 0) for the sc and bcc lattices as rigorous acb balls, at any exact
-energy (E + i0 on the band).
+energy (E + i0 on the band), and for the fcc lattice off its band.
 
 Conventions (DESIGN.md): hopping +1, G(E; 0) = <0|(E - H)^-1|0>, analytic on C minus the band
 ([-6, 6] sc, [-8, 8] bcc), G(conj E) = conj G(E); on the band the retarded limit E + i0.
@@ -43,6 +43,27 @@ xi^2 = -1/3 - (2i/9) E + O(E^2), so (1 - 9 xi^4)/E -> -4i/3, xi -> -i/sqrt(3),
 (1 - xi)^3 (1 + 3 xi) -> 16 i e^(-i pi/3)/(3 sqrt 3), k^2 -> e^(i pi/3)):
 
     G_sc(0 + i0; 0) = -(sqrt(3)/4) e^(i pi/3) (2 K(e^(i pi/3))/pi)^2,   purely imaginary.
+
+fcc (identified; band [-4, 12]).  With w = E/4 (the fcc normalisation of Joyce & Delves,
+J. Stat. Phys. 145, 2011: G_JD(w) = pi^-3 int d^3k/(w - c1c2 - c2c3 - c3c1) = 4 G_fcc(4w; 0)),
+their abstract gives the parameter and the modulus
+
+    xi = (-1 + sqrt(1 + 1/w)) / (1 + sqrt(1 - 3/w)),
+    k^2 = 1/2 - (2/w)(1 + 1/w)^(-3/2) - (1/2)(1 - 1/w)(1 + 1/w)^(-3/2) sqrt(1 - 3/w),
+
+but not the prefactor of G(0, 0, 0; w).  We identified it: G_JD(w)/(2K(k^2)/pi)^2 at twelve
+real w > 3 (our 2-D quadrature, 40 digits) is fitted exactly, on four points held out, by a
+rational function of xi of degrees (3, 4) with integer coefficients, which factors as
+
+    G_fcc(E; 0) = xi (1 - 3 xi)(1 + xi) / ((1 - xi)^3 (1 + 3 xi)) (2 K(k^2)/pi)^2.
+
+Checks (tests/test_cubic_green.py): at E = 12 (w = 3) it gives Watson's W_fcc/4 to all 30
+published digits; its large-E series reproduces the closed-walk counts (OEIS A002899,
+recounted by brute force); it agrees with the 2-D quadrature to 40 digits at complex E and at
+real E on both sides outside the band.  The roots' arguments 1 + 4/E and 1 - 12/E lie on
+(-oo, 0] only for real E in [-4, 0) and (0, 12], so the principal roots are analytic off the
+band (the continuation into the band and E + i0 are not offered: no second method there).
+Status: *identified* (conjectural beyond the digits verified).
 
 All inputs of the roots are exact Gaussian rationals (zeta^2 = 36/E^2 formed in Fractions);
 the balls are python-flint's, so every result is a rigorous enclosure.
@@ -106,8 +127,23 @@ def _bcc_quadrant(E: Energy) -> acb:
     return (2 * u.elliptic_k() / arb.pi()) ** 2 / Ez
 
 
+def _fcc(E: Energy) -> acb:
+    """G_fcc(E; 0) for E off the band [-4, 12] or at E = 12, at the current precision."""
+    Ez = _acb((E.re, E.im))
+    n = E.re * E.re + E.im * E.im
+    inv = (E.re / n, -E.im / n)  # 1/E exactly
+    r1 = _acb((1 + 4 * inv[0], 4 * inv[1])).sqrt()  # sqrt(1 + 1/w), w = E/4
+    r3 = _acb((1 - 12 * inv[0], -12 * inv[1])).sqrt()  # sqrt(1 - 3/w)
+    iw = 4 / Ez  # 1/w
+    k2 = arb(1) / 2 - 2 * iw / r1**3 - (1 - iw) * r3 / (2 * r1**3)
+    xi = (r1 - 1) / (1 + r3)
+    pre = xi * (1 - 3 * xi) * (1 + xi) / ((1 - xi) ** 3 * (1 + 3 * xi))
+    return pre * (2 * k2.elliptic_k() / arb.pi()) ** 2
+
+
 def origin_ball(lattice: str, E: Energy, prec: int) -> acb:
-    """G(E; 0) of ``lattice`` ("sc" or "bcc") as an acb ball at about ``prec`` bits.
+    """G(E; 0) of ``lattice`` ("sc", "bcc"; "fcc" off its band) as an acb ball at about
+    ``prec`` bits.
 
     >>> from latgreen.energy import parse_energy
     >>> # W_bcc / 8 at the band edge (OEIS A091670: W_bcc = 1.3932039296...)
@@ -118,6 +154,10 @@ def origin_ball(lattice: str, E: Energy, prec: int) -> acb:
     old = ctx.prec
     try:
         ctx.prec = prec + 30
+        if lattice == "fcc":
+            if E.im == 0 and -4 <= E.re < 12:
+                raise ValueError("the fcc closed form is offered off the band [-4, 12) only")
+            return +_fcc(E)
         if E.im == 0 and E.re == 0:
             if lattice != "sc":
                 raise ValueError("G_bcc(E; 0) diverges at E = 0")

@@ -340,7 +340,9 @@ def green_energy_quad(lattice: str, site: Site, E: Any, dps: int) -> mpmath.mpc:
     ``energy.Energy``); about ``dps`` digits relative to |G|.  Degrees d and d + 1 must agree
     to dps + 3 digits (an estimate, not a bound); PrecisionError otherwise (E very close to
     the band).  For sc and bcc a real E below the band is mapped by the bipartite symmetry
-    G(-E; r) = -(-1)^(l+m+n) G(E; r) (sc), -(-1)^l G(E; r) (bcc).
+    G(-E; r) = -(-1)^(l+m+n) G(E; r) (sc), -(-1)^l G(E; r) (bcc); for the fcc it is
+    integrated directly (A < -|B| at every node: the product of the two principal roots is
+    then -sqrt((A - B)(A + B)), again the branch ~ A).
 
     >>> from latgreen.energy import parse_energy
     >>> mpmath.nstr(green_energy_quad("sc", (0, 0, 0), parse_energy("7", "sc"), 15).real, 12)
@@ -355,9 +357,7 @@ def green_energy_quad(lattice: str, site: Site, E: Any, dps: int) -> mpmath.mpc:
     if ei == 0 and lo < er < z:
         raise ValueError(f"real energy {E} inside the {lattice} band: the reduced 2-D rule "
                          "needs Im E > 0 or E outside the band")
-    if ei == 0 and er <= lo:
-        if lattice == "fcc":
-            raise ValueError("fcc below its band: not handled by the reduced 2-D rule")
+    if ei == 0 and er <= lo and lattice != "fcc":
         par = sum(site) if lattice == "sc" else site[0]
         sign, er = -(-1) ** par, -er
     bits = int((dps + 15) * LOG2_10) + 32
