@@ -115,29 +115,63 @@ def _fcc_in_band(what: str) -> InputError:
                       "E off the band (ask at a complex energy or E < -4, E >= 12)")
 
 
-def _origin(lattice: str, s: Site, E: Energy, digits: int) -> GreenResult:
+NEIGHBOUR = {"sc": (1, 0, 0), "bcc": (1, 1, 1), "fcc": (1, 1, 0)}
+
+
+class NeighbourForm(ClosedForm):
+    """G(E; nearest neighbour) = (E G(E; 0) - 1)/z, the lattice equation at the origin."""
+
+    def __str__(self) -> str:
+        z = get_lattice(self.lattice).z
+        return f"(E*G0 - 1)/{z}, G0 = G(E;0) as below"
+
+
+def _ball(lattice: str, c: Site, E: Energy, bits: int) -> Any:
+    """G(E; 0), or G(E; nearest neighbour) = (E G(E; 0) - 1)/z: the lattice equation
+    (E - H) G = delta at the origin, whose z neighbours are equivalent by symmetry."""
+    g = origin_ball(lattice, E, bits)
+    if not any(c):
+        return g
+    from flint import acb, arb, ctx, fmpq
+
+    old = ctx.prec
+    try:
+        ctx.prec = bits + 30
+        Ez = acb(arb(fmpq(E.re.numerator, E.re.denominator)),
+                 arb(fmpq(E.im.numerator, E.im.denominator)))
+        return (Ez * g - 1) / get_lattice(lattice).z
+    finally:
+        ctx.prec = old
+
+
+def _origin(lattice: str, s: Site, E: Energy, digits: int, c: Site = (0, 0, 0)) -> GreenResult:
+    """G(E; 0) or G(E; nearest neighbour) from the closed form, confirmed by the 1-D
+    integral (sc, bcc) or the 2-D quadrature (fcc)."""
     if lattice == "fcc" and _inside(lattice, E):
-        raise _fcc_in_band("G(E; 0)")
-    zero = zero_parts(lattice, E, (0, 0, 0))
-    v = certify_complex(lambda bits: origin_ball(lattice, E, bits), _start_bits(digits),
-                        digits, zero, f"G({E};0)")
+        raise _fcc_in_band("G(E; r)")
+    c3 = (c[0], c[1], c[2])
+    zero = zero_parts(lattice, E, c)
+    v = certify_complex(lambda bits: _ball(lattice, c, E, bits), _start_bits(digits) + 64,
+                        digits, zero, f"G({E};{c})")
     dps = quad_digits_needed(v, digits)
     second = "quadrature" if lattice == "fcc" else "integral"
     with mpmath.workdps(dps + 5):
         if lattice == "fcc":
-            q = green_energy_quad(lattice, (0, 0, 0), E, dps)
+            q = green_energy_quad(lattice, c3, E, dps)
         else:
-            q = green_integral(lattice, E, (0, 0, 0), dps)
+            q = green_integral(lattice, E, c3, dps)
         qf = (_frac(mpmath.re(q)), _frac(mpmath.im(q)))
     agree = component_agreement(v.center, qf, zero, digits)
     if agree < digits:
-        raise VerificationError(f"{lattice} G({E}; 0): closed form and {second} agree to "
+        raise VerificationError(f"{lattice} G({E}; {c}): closed form and {second} agree to "
                                 f"only {agree} of {digits} digits")
-    return GreenResult(lattice, s, (0, 0, 0), E, digits, str(v.re), str(v.im),
-                       ClosedForm(lattice), v.re.half_ulp(), v.im.half_ulp(),
-                       _modulus_bound([v.re, v.im]), ("closed-form", second), agree,
+    form = ClosedForm(lattice) if not any(c) else NeighbourForm(lattice)
+    return GreenResult(lattice, s, c, E, digits, str(v.re), str(v.im), form,
+                       v.re.half_ulp(), v.im.half_ulp(), _modulus_bound([v.re, v.im]),
+                       ("closed-form", second), agree,
                        notes=(FCC_NOTE,) if lattice == "fcc" else (),
-                       basis="K(m): complete elliptic integral of parameter m (DLMF 19.2)")
+                       basis="G0: " + CLOSED_TEXT[lattice] + "; K(m): complete elliptic "
+                             "integral of parameter m (DLMF 19.2)")
 
 
 def _round_estimate(x: Any, tol: Any, digits: int, what: str) -> tuple[Rounded, Fraction]:
@@ -156,13 +190,14 @@ def _round_estimate(x: Any, tol: Any, digits: int, what: str) -> tuple[Rounded, 
 def _site(lattice: str, s: Site, c: tuple[int, int, int], E: Energy,
           digits: int) -> GreenResult:
     if lattice == "fcc":
-        raise InputError("fcc G(E; r) at r != 0 has one method here (the 2-D quadrature) and "
-                         "no independent check; only r = 0 is offered")
+        raise InputError("fcc G(E; r) beyond the nearest neighbour (1, 1, 0) has one method "
+                         "here (the 2-D quadrature) and no independent check")
     if _inside(lattice, E):
         lo, hi = get_lattice(lattice).band
-        raise InputError(f"{lattice} G(E; r) at r != 0 for real E inside the band ({lo}, {hi}) "
-                         "has one method here (the 1-D integral) and no independent check: "
-                         "ask at a complex energy or a real one outside the band")
+        raise InputError(f"{lattice} G(E; r) for real E inside the band ({lo}, {hi}) beyond the "
+                         f"nearest neighbour {NEIGHBOUR[lattice]} has one method here (the 1-D "
+                         "integral) and no independent check: ask at a complex energy or a "
+                         "real one outside the band")
     zero = zero_parts(lattice, E, c)
     with mpmath.workdps(30):  # scouting: how much smaller is the smaller component?
         g = green_integral(lattice, E, c, 15)
@@ -211,8 +246,8 @@ def _green(lattice: str) -> Any:
         c = lat.canonical(s)
         if c[0] > 60:
             raise InputError(f"site {c}: G at an energy is offered for coordinates up to 60")
-        if not any(c):
-            return _origin(lattice, s, E, digits)
+        if not any(c) or c == NEIGHBOUR[lattice]:
+            return _origin(lattice, s, E, digits, c)
         return _site(lattice, s, (c[0], c[1], c[2]), E, digits)
 
     green.__doc__ = f"G(E; site) of the {lattice} lattice (module docstring)."
@@ -228,8 +263,10 @@ def _zero_result(lattice: str, quantity: str, s: Site, c: Site, E: Energy,
                   energy=str(E))
 
 
-def _density(lattice: str, quantity: str, s: Site, E: Energy, digits: int) -> Result:
-    c = (0, 0, 0)
+def _density(lattice: str, quantity: str, s: Site, E: Energy, digits: int,
+             c: Site = (0, 0, 0)) -> Result:
+    """-Im G(E + i0; c)/pi for c = 0 or the nearest neighbour (_ball), confirmed by the
+    1-D integral."""
     if not _inside(lattice, E):
         return _zero_result(lattice, quantity, s, c, E, digits)
     if lattice == "fcc":
@@ -237,7 +274,7 @@ def _density(lattice: str, quantity: str, s: Site, E: Energy, digits: int) -> Re
     from flint import arb, ctx
 
     def build(bits: int) -> Any:
-        b = origin_ball(lattice, E, bits)
+        b = _ball(lattice, c, E, bits)
         old = ctx.prec
         try:
             ctx.prec = bits + 30
@@ -245,10 +282,11 @@ def _density(lattice: str, quantity: str, s: Site, E: Energy, digits: int) -> Re
         finally:
             ctx.prec = old
 
-    r, centre = _certify_real(build, _start_bits(digits), digits, f"the {quantity} at E = {E}")
+    r, centre = _certify_real(build, _start_bits(digits) + 64, digits,
+                              f"the {quantity} at E = {E}")
     dps = digits + 3
     with mpmath.workdps(dps + 5):
-        q = -mpmath.im(green_integral(lattice, E, c, dps)) / mpmath.pi
+        q = -mpmath.im(green_integral(lattice, E, (c[0], c[1], c[2]), dps)) / mpmath.pi
         qf = _frac(q)
     agree = agreement_digits(centre, qf, digits)
     if agree < digits:
@@ -256,7 +294,8 @@ def _density(lattice: str, quantity: str, s: Site, E: Energy, digits: int) -> Re
                                 f"integral agree to only {agree} of {digits} digits")
     return Result(lattice, quantity, s, c, digits, str(r), None, r.half_ulp(),
                   ("closed-form", "integral"), agree,
-                  notes=(f"-Im of {CLOSED_TEXT[lattice]}, divided by pi",), energy=str(E))
+                  notes=(f"-Im of {'' if not any(c) else '(E*G0 - 1)/z, G0 = '}"
+                         f"{CLOSED_TEXT[lattice]}, divided by pi",), energy=str(E))
 
 
 def _dos(lattice: str) -> Any:
@@ -271,13 +310,14 @@ def _local_dos(lattice: str) -> Any:
         lat = get_lattice(lattice)
         s = lat.site(site)
         c = lat.canonical(s)
-        if not any(c):
-            return _density(lattice, "local-dos", s, E, digits)
+        if not any(c) or c == NEIGHBOUR[lattice]:
+            return _density(lattice, "local-dos", s, E, digits, c)
         if not _inside(lattice, E):
             return _zero_result(lattice, "local-dos", s, c, E, digits)
         lo, hi = lat.band
-        raise InputError(f"the {lattice} local DOS at r != 0 inside the band ({lo}, {hi}) has "
-                         "one method here (the 1-D integral) and no independent check")
+        raise InputError(f"the {lattice} local DOS inside the band ({lo}, {hi}) beyond the "
+                         f"nearest neighbour {NEIGHBOUR[lattice]} has one method here (the 1-D "
+                         "integral) and no independent check")
 
     return local_dos
 
