@@ -329,6 +329,8 @@ def test_nearest_neighbour_from_the_lattice_equation(lattice, site, E):
     (lambda: latgreen.green("fcc", (2, 0, 0), energy="13"), "one method"),
     (lambda: latgreen.green("fcc", (0, 0, 0), energy="-4"), "lower band edge"),
     (lambda: latgreen.green("sc", (61, 0, 0), energy="7"), "up to 60"),
+    (lambda: latgreen.green("sc", (2, 0, 0), energy="7", digits=101), "at most 100"),
+    (lambda: latgreen.dos("bcc", energy="1", digits=301), "at most 300"),
 ])
 def test_bad_inputs(call, words):
     with pytest.raises(InputError, match=words):

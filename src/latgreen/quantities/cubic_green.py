@@ -52,6 +52,8 @@ from .green_api import (
 from .square_green import quad_digits_needed
 
 LOG2_10 = 3.3219280948873623
+MAX_DIGITS_CLOSED = 300  # closed form + one quadrature (about 2 s at 200 digits)
+MAX_DIGITS_QUAD = 100  # two quadratures (the 2-D rule's largest degree, 384 nodes)
 CLOSED_TEXT = {
     "sc": "G(E;0) = (1/E)(1 - 9 xi^4)/((1 - xi)^3 (1 + 3 xi)) (2 K(k^2)/pi)^2, "
           "k^2 = 16 xi^3/((1 - xi)^3 (1 + 3 xi)), xi^2 = (1 - sqrt(1 - 4/E^2))/(1 + "
@@ -246,6 +248,12 @@ def _green(lattice: str) -> Any:
         c = lat.canonical(s)
         if c[0] > 60:
             raise InputError(f"site {c}: G at an energy is offered for coordinates up to 60")
+        closed = not any(c) or c == NEIGHBOUR[lattice]
+        cap = MAX_DIGITS_CLOSED if closed else MAX_DIGITS_QUAD
+        if digits > cap:
+            raise InputError(f"{lattice} G at {c}: at most {cap} digits (the confirming "
+                             "quadrature" + ("s grow" if not closed else " grows") +
+                             " too costly beyond)")
         if not any(c) or c == NEIGHBOUR[lattice]:
             return _origin(lattice, s, E, digits, c)
         return _site(lattice, s, (c[0], c[1], c[2]), E, digits)
@@ -267,6 +275,9 @@ def _density(lattice: str, quantity: str, s: Site, E: Energy, digits: int,
              c: Site = (0, 0, 0)) -> Result:
     """-Im G(E + i0; c)/pi for c = 0 or the nearest neighbour (_ball), confirmed by the
     1-D integral."""
+    if digits > MAX_DIGITS_CLOSED:
+        raise InputError(f"the {lattice} {quantity}: at most {MAX_DIGITS_CLOSED} digits (the "
+                         "confirming quadrature grows too costly beyond)")
     if not _inside(lattice, E):
         return _zero_result(lattice, quantity, s, c, E, digits)
     if lattice == "fcc":
