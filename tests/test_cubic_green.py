@@ -367,3 +367,29 @@ def test_cli_dos_table(tmp_path):
     text = (out / "sc-dos.csv").read_text() if (out / "sc-dos.csv").exists() else \
         next(out.glob("*.csv")).read_text()
     assert "0.142672982723019" in text  # rho_sc(0) = I_fcc/pi (see the band-centre test)
+
+
+def test_green_table_at_an_energy(tmp_path):
+    """A bcc green table off the band: every row equals the single value, the exact column
+    names the closed form only where there is one, and the descriptor says what G0 is."""
+    import json
+
+    out = tmp_path / "g"
+    r = run_cli("table", "bcc", "--quantity", "green", "--energy", "9+1j", "--extent", "2",
+                "--digits", "15", "--out", str(out), "--quiet", "--workers", "1")
+    assert r.returncode == 0, r.stderr
+    lines = (out / "values.csv").read_text().splitlines()
+    assert lines[0].startswith("l,m,n,value_re,value_im,exact,exact_how")
+    rows = [ln.split(",") for ln in lines[1:]]
+    assert [tuple(map(int, x[:3])) for x in rows] == [(0, 0, 0), (1, 1, 1), (2, 0, 0),
+                                                      (2, 2, 0), (2, 2, 2)]
+    assert rows[0][5] == "G0" and rows[1][5] == "(E*G0 - 1)/8" and rows[2][5] == ""
+    assert [x[9] for x in rows] == ["closed-form;quadrature"] * 2 + ["integral;quadrature"] * 3
+    g = latgreen.green("bcc", (2, 2, 0), energy="9+1j", digits=15)
+    assert (rows[3][3], rows[3][4]) == (g.value_re, g.value_im)
+    meta = json.loads((out / "datapackage.json").read_text())["latgreen"]
+    assert "G0 = G(E;0) = (1/E)(2 K(u)/pi)^2" in meta["methods"]["primary"]
+    assert "estimate" in meta["conventions"]["exact"]
+    r = run_cli("table", "sc", "--quantity", "green", "--energy", "3", "--extent", "2",
+                "--out", str(tmp_path / "h"))
+    assert r.returncode == 2 and "outside the band" in r.stderr

@@ -23,8 +23,9 @@ printed digit is confirmed (two independent methods every time):
 
 from __future__ import annotations
 
+import functools
 import math
-from collections.abc import Sequence
+from collections.abc import Iterator, Sequence
 from fractions import Fraction
 from typing import Any
 
@@ -35,11 +36,13 @@ from ..errors import InputError, VerificationError
 from ..exact.complex_eval import ComplexRounded, certify_complex
 from ..exact.forms import ExactForm
 from ..lattices import Site, get_lattice
+from ..lattices.cubic import Cubic
 from ..methods.cubic_green_closed import origin_ball
 from ..methods.cubic_green_integral import green_integral
 from ..methods.cubic_quadrature import green_energy_quad
 from ..rounding import ZERO, Rounded, agreement_digits, round_interval
-from . import Result
+from . import PARAMETRISED, Result
+from .base import EvaluatedBatch, Provider
 from .green_api import (
     BACKENDS,
     GreenBackend,
@@ -49,7 +52,7 @@ from .green_api import (
     _modulus_bound,
     component_agreement,
 )
-from .square_green import quad_digits_needed
+from .square_green import column_of, quad_digits_needed
 
 LOG2_10 = 3.3219280948873623
 MAX_DIGITS_CLOSED = 300  # closed form + one quadrature (about 2 s at 200 digits)
@@ -189,29 +192,29 @@ def _round_estimate(x: Any, tol: Any, digits: int, what: str) -> tuple[Rounded, 
     return r, _frac(x)
 
 
-def _site(lattice: str, s: Site, c: tuple[int, int, int], E: Energy,
-          digits: int) -> GreenResult:
-    if lattice == "fcc":
-        raise InputError("fcc G(E; r) beyond the nearest neighbour (1, 1, 0) has one method "
-                         "here (the 2-D quadrature) and no independent check")
-    if _inside(lattice, E):
-        lo, hi = get_lattice(lattice).band
-        raise InputError(f"{lattice} G(E; r) for real E inside the band ({lo}, {hi}) beyond the "
-                         f"nearest neighbour {NEIGHBOUR[lattice]} has one method here (the 1-D "
-                         "integral) and no independent check: ask at a complex energy or a "
-                         "real one outside the band")
-    zero = zero_parts(lattice, E, c)
-    with mpmath.workdps(30):  # scouting: how much smaller is the smaller component?
-        g = green_integral(lattice, E, c, 15)
+def _extra_digits(lattice: str, c: Site, E: Energy, zero: tuple[bool, bool],
+                  method: Any) -> int:
+    """log10(|G| / smaller non-zero component), from a 15-digit scouting pass of
+    ``method``: the quadratures' accuracy is relative to |G|."""
+    with mpmath.workdps(30):
+        g = method(15)
         comps = [abs(x) for x, zz in ((mpmath.re(g), zero[0]), (mpmath.im(g), zero[1]))
                  if not zz]
         small = min(comps) if comps else abs(g)
-        extra = max(0, int(mpmath.ceil(mpmath.log10(abs(g) / small)))) if small else 30
+        return max(0, int(mpmath.ceil(mpmath.log10(abs(g) / small)))) if small else 30
+
+
+def integral_value(lattice: str, c: Site, E: Energy, digits: int) -> ComplexRounded:
+    """Both components of the 1-D integral rounded to ``digits`` digits of their own, with
+    10 guard digits (an estimate, not a proven bound); centres exact."""
+    c3 = (c[0], c[1], c[2])
+    zero = zero_parts(lattice, E, c)
+    extra = _extra_digits(lattice, c, E, zero,
+                          lambda d: green_integral(lattice, E, c3, d))
     dps = digits + extra + 10
     what = f"{lattice} G({E}; {c})"
     with mpmath.workdps(dps + 10):
-        a = green_integral(lattice, E, c, dps)
-        b = green_energy_quad(lattice, c, E, digits + extra + 3)
+        a = green_integral(lattice, E, c3, dps)
         tol = mpmath.mpf(10) ** -(digits + extra + 8) * abs(a)
         parts: list[Rounded] = []
         centre: list[Fraction] = []
@@ -226,8 +229,37 @@ def _site(lattice: str, s: Site, c: tuple[int, int, int], E: Energy,
                 r, cx = _round_estimate(x, tol, digits, what)
                 parts.append(r)
                 centre.append(cx)
-        bf = (_frac(mpmath.re(b)), _frac(mpmath.im(b)))
-    v = ComplexRounded(parts[0], parts[1], (centre[0], centre[1]), 0)
+    return ComplexRounded(parts[0], parts[1], (centre[0], centre[1]), 0)
+
+
+def quad_value(lattice: str, c: Site, E: Energy, digits: int) -> tuple[Fraction, Fraction]:
+    """The reduced 2-D rule's value, accurate enough to confirm each component to
+    ``digits`` digits of its own (exact Fractions of the mpmath result)."""
+    c3 = (c[0], c[1], c[2])
+    zero = zero_parts(lattice, E, c)
+    extra = _extra_digits(lattice, c, E, zero,
+                          lambda d: green_energy_quad(lattice, c3, E, d))
+    with mpmath.workdps(digits + extra + 20):
+        b = green_energy_quad(lattice, c3, E, digits + extra + 3)
+        return _frac(mpmath.re(b)), _frac(mpmath.im(b))
+
+
+def _site(lattice: str, s: Site, c: tuple[int, int, int], E: Energy,
+          digits: int) -> GreenResult:
+    if lattice == "fcc":
+        raise InputError("fcc G(E; r) beyond the nearest neighbour (1, 1, 0) has one method "
+                         "here (the 2-D quadrature) and no independent check")
+    if _inside(lattice, E):
+        lo, hi = get_lattice(lattice).band
+        raise InputError(f"{lattice} G(E; r) for real E inside the band ({lo}, {hi}) beyond the "
+                         f"nearest neighbour {NEIGHBOUR[lattice]} has one method here (the 1-D "
+                         "integral) and no independent check: ask at a complex energy or a "
+                         "real one outside the band")
+    zero = zero_parts(lattice, E, c)
+    what = f"{lattice} G({E}; {c})"
+    v = integral_value(lattice, c, E, digits)
+    with mpmath.workdps(digits + 20):
+        bf = quad_value(lattice, c, E, digits)
     agree = component_agreement(v.center, bf, zero, digits)
     if agree < digits:
         raise VerificationError(f"{what}: 1-D integral and 2-D rule agree to only {agree} of "
@@ -335,3 +367,110 @@ def _local_dos(lattice: str) -> Any:
 
 for _name in ("sc", "bcc", "fcc"):
     BACKENDS[_name] = GreenBackend(_green(_name), _dos(_name), _local_dos(_name))
+
+
+# ---------------------------------------------------------------- tables at one energy
+
+class TableForm:
+    """A table cell's exact form (no commas: the CSV is written without quoting): ``G0``
+    (the closed form named in the descriptor), ``(E*G0 - 1)/z`` or empty."""
+
+    def __init__(self, text: str, how: str) -> None:
+        self.text, self.how = text, how
+
+    def __str__(self) -> str:
+        return self.text
+
+
+class CubicGreen(Provider):
+    """sc / bcc x green bound to one energy: tables for complex E or real E outside the band
+    (inside it only the origin and the nearest neighbour have two methods).  Batches are the
+    columns (l, m) of the canonical region; the origin and the nearest neighbour come from
+    the closed form (certified balls), every other site from the 1-D integral with 10 guard
+    digits; every row is checked by the reduced 2-D rule at full digits."""
+
+    complex_valued = True
+    exact_limit = 60
+    table_limit = 12
+    max_digits = MAX_DIGITS_QUAD
+    parallel_min_sites = 20
+    primary_text = ("closed forms of G(E;0) (and (E G0 - 1)/z at the nearest neighbour) as "
+                    "certified python-flint balls; other sites: the 1-D integral over k3 of "
+                    "the square lattice's closed form, rounded with 10 guard digits (error "
+                    "bound an estimate)")
+    check_text = "the reduced 2-D polar Gauss-Legendre rule"
+    energy: Energy
+
+    def __init__(self, lattice: str, energy: Energy) -> None:
+        self.lattice = get_lattice(lattice)
+        self.quantity = "green"
+        self.energy = energy
+        self.energy_methods = {
+            "primary": self.primary_text + f"; G0 = {CLOSED_TEXT[lattice]}",
+            "check": self.check_text + " at full digits (of each component) for every row"}
+        if _inside(lattice, energy):
+            lo, hi = self.lattice.band
+            raise InputError(f"a {lattice} green table needs a complex energy or a real one "
+                             f"outside the band ({lo}, {hi}): inside it only the origin and "
+                             "the nearest neighbour have two methods here")
+
+    def _columns(self, extent: int) -> Iterator[list[Site]]:
+        lat = self.lattice
+        assert isinstance(lat, Cubic)
+        for l in range(extent + 1):
+            for m in range(l + 1):
+                col = lat.column(l, m)
+                if col:
+                    yield col
+
+    def batch_sites(self, extent: int) -> Iterator[list[Site]]:
+        return self._columns(extent)
+
+    def value(self, c: Site, digits: int) -> ComplexRounded:
+        name, E = self.lattice.name, self.energy
+        if not any(c) or c == NEIGHBOUR[name]:
+            return certify_complex(lambda bits: _ball(name, c, E, bits),
+                                   _start_bits(digits) + 64, digits, zero_parts(name, E, c),
+                                   f"G({E};{c})")
+        return integral_value(name, c, E, digits)
+
+    def form(self, c: Site) -> Any:
+        name = self.lattice.name
+        how = ClosedForm(name).how
+        if not any(c):
+            return TableForm("G0", how)
+        if c == NEIGHBOUR[name]:
+            return TableForm(f"(E*G0 - 1)/{self.lattice.z}", how)
+        return TableForm("", "")
+
+    def evaluated_batches(self, extent: int, digits: int, with_exact: bool, start: int = 0,
+                          stop: int | None = None) -> Iterator[tuple[int, EvaluatedBatch]]:
+        for bi, sites in enumerate(self._columns(extent)):
+            if bi < start:
+                continue
+            if stop is not None and bi >= stop:
+                return
+            vals = [self.value(c, digits) for c in sites]
+            yield bi, EvaluatedBatch(sites, column_of(vals, 0),
+                                     [self.form(c) for c in sites] if with_exact else None,
+                                     imag=column_of(vals, 1))
+
+    def exact_form(self, site: Site) -> Any:
+        return self.form(site)
+
+    def row_method(self, c: Site) -> str:
+        closed = not any(c) or c == NEIGHBOUR[self.lattice.name]
+        return "closed-form;quadrature" if closed else "integral;quadrature"
+
+    def quad_sites(self, sites: list[Site], digits: int) -> list:
+        return [quad_value(self.lattice.name, c, self.energy, digits) for c in sites]
+
+    def memory_estimate(self, extent: int) -> int:
+        return 100_000_000
+
+    def output_estimate(self, extent: int, digits: int, with_exact: bool) -> int:
+        return self.lattice.region_size(extent) * (2 * (2 * digits + 80) + 400)
+
+
+for _name in ("sc", "bcc"):
+    PARAMETRISED[(_name, "green")] = functools.partial(CubicGreen, _name)

@@ -134,7 +134,7 @@ def make_table(req: TableRequest) -> dict[str, Any]:
     if energy is not None:
         meta["energy"] = energy
         meta["complex"] = provider.complex_valued
-        meta["methods"] = {
+        meta["methods"] = getattr(provider, "energy_methods", None) or {
             "primary": "recurrence: exact forms a*G00 + b*G11 + c (Gaussian-rational a, b, c) "
                        "derived from proven seeds, the lattice equation and the diagonal "
                        "recurrence; G00, G11 as python-flint balls of their elliptic-integral "
@@ -378,7 +378,8 @@ def make_dos_table(lattice: str, energies: str, digits: int, out: Path, force: b
     def rows() -> Iterator[tuple[str, str, str, str, str, int]]:
         for E in grid:
             r = dos(lat.name, E, digits)
-            yield (str(E), r.value, str(r.exact), r.error_bound, ";".join(r.methods),
+            yield (str(E), r.value, "" if r.exact is None else str(r.exact), r.error_bound,
+                   ";".join(r.methods),
                    r.agreement_digits)
             bar.advance(1)
 
