@@ -25,8 +25,10 @@ just above the negative axis, so sqrt -> +i t, t = sqrt(64/x^2 - 1), u = (1 - i 
 explicitly, never evaluated on a cut).  E = 0 is refused (energy.py): the DOS diverges.
 
 sc (Joyce, Phil. Trans. R. Soc. Lond. A 273, 583 (1973); the form below written from memory
-and confirmed by our 1-D integral, ``methods/cubic_green_integral.py``, on and off the band):
-with zeta = 6/E,
+and confirmed by our 1-D integral, ``methods/cubic_green_integral.py``, on and off the band;
+the parameter xi and the modulus k agree with those of Joyce, J. Phys. A 35, 9811 (2002), in
+whose normalisation w = E/2: xi_J = (1/w)[1 + sqrt(1 - 9/w^2)]^(-1/2) [1 + sqrt(1 - 1/w^2)]^(-1/2)
+has xi_J^2 = our xi^2 because (1 - s)(1 + s) = 1/w^2 for s = sqrt(1 - 1/w^2)): with zeta = 6/E,
 
     xi^2 = (1 - sqrt(1 - zeta^2/9)) / (1 + sqrt(1 - zeta^2)),
     k^2  = 16 xi^3 / ((1 - xi)^3 (1 + 3 xi)),
