@@ -18,6 +18,7 @@ from latgreen.errors import InputError
 from latgreen.methods.cubic_green_closed import origin_ball
 from latgreen.methods.cubic_green_integral import green_integral, square_value
 from latgreen.methods.cubic_quadrature import green_energy_quad
+from latgreen.methods.sc_green_bessel import green_bessel
 
 
 def ball_mpc(b) -> mpmath.mpc:
@@ -281,13 +282,33 @@ def test_zero_components_by_symmetry():
     assert g.value_im == "0"
 
 
-def test_site_off_band_result_says_estimate():
-    g = latgreen.green("sc", (2, 1, 0), energy="7", digits=25)
+def test_sites_beyond_the_neighbour_say_estimate():
+    """The 1-D integral with 10 guard digits, confirmed by the 2-D rule (bcc off the band)
+    or the Bessel integral (sc, also inside the band)."""
+    g = latgreen.green("bcc", (2, 0, 0), energy="9", digits=20)
     assert g.methods == ("integral", "quadrature") and g.exact is None
     assert "estimate" in g.notes[0]
     with mpmath.workdps(40):
-        e = parse_energy("7", "sc")
-        assert rel(g.mpc, green_energy_quad("sc", (2, 1, 0), e, 30)) < 1e-24
+        e = parse_energy("9", "bcc")
+        assert rel(g.mpc, green_energy_quad("bcc", (2, 0, 0), e, 25)) < 1e-19
+    g = latgreen.green("sc", (2, 1, 0), energy="5/2", digits=15)
+    assert g.methods == ("integral", "bessel") and "estimate" in g.notes[0]
+    assert g.value_im != "0" and g.value_re != "0"
+    d = latgreen.local_dos("sc", (2, 1, 0), energy="5/2", digits=12)
+    with mpmath.workdps(30):
+        assert rel(d.mpf, -g.mpc.imag / mpmath.pi) < 1e-11
+
+
+@pytest.mark.parametrize(("E", "site"), [("3", (1, 1, 0)), ("1/2", (3, 1, 1)), ("0", (2, 0, 0)),
+                                         ("-4.5", (2, 1, 1))])
+def test_bessel_integral_vs_1d_integral(E, site):
+    """The time-domain Bessel integral against the 1-D integral over the square lattice's
+    closed form (two methods of ours sharing only the definition of G), 30 digits."""
+    e = parse_energy(E, "sc")
+    with mpmath.workdps(45):
+        a = green_bessel(e, site, 30)
+        b = green_integral("sc", e, site, 30)
+        assert rel(a, b) < mpmath.mpf(10) ** -30
 
 
 def test_local_dos():
@@ -295,7 +316,7 @@ def test_local_dos():
         latgreen.dos("sc", energy="3", digits=20).value
     assert latgreen.local_dos("bcc", (1, 1, 1), energy="9", digits=20).value == "0"
     with pytest.raises(InputError, match="one method"):
-        latgreen.local_dos("sc", (1, 1, 0), energy="3", digits=20)
+        latgreen.local_dos("bcc", (2, 0, 0), energy="3", digits=20)
     # nearest neighbour: (E G0 - 1)/z, so -Im G(x + i0; 1,0,0)/pi = x rho(x)/6 (derived)
     with mpmath.workdps(30):
         a = latgreen.local_dos("sc", (0, 1, 0), energy="3", digits=20).mpf
@@ -319,7 +340,8 @@ def test_nearest_neighbour_from_the_lattice_equation(lattice, site, E):
 
 @pytest.mark.parametrize(("call", "words"), [
     (lambda: latgreen.green("bcc", (0, 0, 0), energy="0"), "band centre"),
-    (lambda: latgreen.green("sc", (1, 1, 0), energy="3"), "one method"),
+    (lambda: latgreen.green("bcc", (2, 0, 0), energy="3"), "one method"),
+    (lambda: latgreen.green("sc", (13, 0, 0), energy="3"), "above 12"),
     (lambda: latgreen.green("bcc", (1, 0, 0), energy="9"), "not a bcc site"),
     (lambda: latgreen.green("sc", (0, 0, 0), energy="1-1j"), "negative imaginary"),
     (lambda: latgreen.green("sc", (0, 0, 0), energy=1.5), "binary float"),
@@ -355,7 +377,7 @@ def test_cli_green_dos_and_errors():
     assert r.returncode == 0 and r.stdout.strip() == "0.032277774773286530851+0j"
     r = run_cli("dos", "bcc", "--energy", "3", "--digits", "20")
     assert r.returncode == 0 and r.stdout.strip().startswith("0.05526398330491892848")
-    r = run_cli("green", "sc", "1", "1", "0", "--energy", "3")
+    r = run_cli("green", "bcc", "2", "0", "0", "--energy", "3")
     assert r.returncode == 2 and r.stderr.count("\n") == 1 and "Traceback" not in r.stderr
 
 
@@ -390,6 +412,6 @@ def test_green_table_at_an_energy(tmp_path):
     meta = json.loads((out / "datapackage.json").read_text())["latgreen"]
     assert "G0 = G(E;0) = (1/E)(2 K(u)/pi)^2" in meta["methods"]["primary"]
     assert "estimate" in meta["conventions"]["exact"]
-    r = run_cli("table", "sc", "--quantity", "green", "--energy", "3", "--extent", "2",
+    r = run_cli("table", "bcc", "--quantity", "green", "--energy", "3", "--extent", "2",
                 "--out", str(tmp_path / "h"))
     assert r.returncode == 2 and "outside the band" in r.stderr

@@ -40,6 +40,8 @@ from ..lattices.cubic import Cubic
 from ..methods.cubic_green_closed import origin_ball
 from ..methods.cubic_green_integral import green_integral
 from ..methods.cubic_quadrature import green_energy_quad
+from ..methods.sc_green_bessel import MAX_ORDER as BESSEL_MAX
+from ..methods.sc_green_bessel import green_bessel
 from ..rounding import ZERO, Rounded, agreement_digits, round_interval
 from . import PARAMETRISED, Result
 from .base import EvaluatedBatch, Provider
@@ -244,32 +246,63 @@ def quad_value(lattice: str, c: Site, E: Energy, digits: int) -> tuple[Fraction,
         return _frac(mpmath.re(b)), _frac(mpmath.im(b))
 
 
+def bessel_value(c: Site, E: Energy, digits: int) -> tuple[Fraction, Fraction]:
+    """sc: the time-domain Bessel integral's value, accurate enough to confirm each
+    component to ``digits`` digits of its own."""
+    c3 = (c[0], c[1], c[2])
+    zero = zero_parts("sc", E, c)
+    extra = _extra_digits("sc", c, E, zero, lambda d: green_bessel(E, c3, d))
+    with mpmath.workdps(digits + extra + 20):
+        b = green_bessel(E, c3, digits + extra + 3)
+        return _frac(mpmath.re(b)), _frac(mpmath.im(b))
+
+
+def _second(lattice: str, c: Site, E: Energy, digits: int
+            ) -> tuple[str, str, tuple[Fraction, Fraction]]:
+    """The independent check of the 1-D integral at a site r != 0: (method name, text,
+    value).  sc with coordinates up to 12: the time-domain Bessel integral at any energy;
+    otherwise off the band the reduced 2-D rule, and inside the band none (InputError)."""
+    if lattice == "sc" and max(c) <= BESSEL_MAX:
+        return "bessel", "the time-domain Bessel integral", bessel_value(c, E, digits)
+    if _inside(lattice, E):
+        _refuse_one_method(lattice, c, E)
+    return "quadrature", "the reduced 2-D rule", quad_value(lattice, c, E, digits)
+
+
+def _refuse_one_method(lattice: str, c: Site, E: Energy, what: str = "G(E; r)") -> None:
+    """InputError where, inside the band, the 1-D integral has no independent check: every
+    bcc site beyond the nearest neighbour, sc sites with a coordinate above 12."""
+    if lattice == "sc" and max(c) <= BESSEL_MAX:
+        return
+    lo, hi = get_lattice(lattice).band
+    where = f"with a coordinate above {BESSEL_MAX} " if lattice == "sc" else ""
+    raise InputError(f"{lattice} {what} for real E inside the band ({lo}, {hi}) beyond the "
+                     f"nearest neighbour {NEIGHBOUR[lattice]} {where}has one method here (the "
+                     "1-D integral) and no independent check: ask at a complex energy or a "
+                     "real one outside the band")
+
+
 def _site(lattice: str, s: Site, c: tuple[int, int, int], E: Energy,
           digits: int) -> GreenResult:
     if lattice == "fcc":
         raise InputError("fcc G(E; r) beyond the nearest neighbour (1, 1, 0) has one method "
                          "here (the 2-D quadrature) and no independent check")
-    if _inside(lattice, E):
-        lo, hi = get_lattice(lattice).band
-        raise InputError(f"{lattice} G(E; r) for real E inside the band ({lo}, {hi}) beyond the "
-                         f"nearest neighbour {NEIGHBOUR[lattice]} has one method here (the 1-D "
-                         "integral) and no independent check: ask at a complex energy or a "
-                         "real one outside the band")
     zero = zero_parts(lattice, E, c)
     what = f"{lattice} G({E}; {c})"
+    if _inside(lattice, E):
+        _refuse_one_method(lattice, c, E)  # before the costly integral
     v = integral_value(lattice, c, E, digits)
-    with mpmath.workdps(digits + 20):
-        bf = quad_value(lattice, c, E, digits)
+    name, text, bf = _second(lattice, c, E, digits)
     agree = component_agreement(v.center, bf, zero, digits)
     if agree < digits:
-        raise VerificationError(f"{what}: 1-D integral and 2-D rule agree to only {agree} of "
+        raise VerificationError(f"{what}: 1-D integral and {text} agree to only {agree} of "
                                 f"{digits} digits")
     return GreenResult(lattice, s, c, E, digits, str(v.re), str(v.im), None,
                        v.re.half_ulp(), v.im.half_ulp(), _modulus_bound([v.re, v.im]),
-                       ("integral", "quadrature"), agree,
+                       ("integral", name), agree,
                        notes=("no closed form at r != 0 here: the value is the 1-D integral "
                               "with 10 guard digits (error estimate, not a proof), confirmed "
-                              f"on {agree} digits by the reduced 2-D rule",),
+                              f"on {agree} digits by {text}",),
                        basis="")
 
 
@@ -357,12 +390,40 @@ def _local_dos(lattice: str) -> Any:
             return _density(lattice, "local-dos", s, E, digits, c)
         if not _inside(lattice, E):
             return _zero_result(lattice, "local-dos", s, c, E, digits)
-        lo, hi = lat.band
-        raise InputError(f"the {lattice} local DOS inside the band ({lo}, {hi}) beyond the "
-                         f"nearest neighbour {NEIGHBOUR[lattice]} has one method here (the 1-D "
-                         "integral) and no independent check")
+        if lattice == "fcc":
+            raise _fcc_in_band("local density of states")
+        _refuse_one_method(lattice, c, E, "local DOS")
+        return _local_dos_site(s, c, E, digits)
 
     return local_dos
+
+
+def _local_dos_site(s: Site, c: Site, E: Energy, digits: int) -> Result:
+    """sc inside the band: -Im G(E + i0; r)/pi from the 1-D integral (10 guard digits, an
+    estimate), confirmed by the Bessel integral."""
+    if digits > MAX_DIGITS_QUAD:
+        raise InputError(f"the sc local DOS at {c}: at most {MAX_DIGITS_QUAD} digits")
+    c3 = (c[0], c[1], c[2])
+    zero = (True, False)  # only the imaginary part matters here
+    extra = _extra_digits("sc", c, E, zero, lambda d: green_integral("sc", E, c3, d))
+    what = f"the sc local DOS at E = {E}, site {c}"
+    with mpmath.workdps(digits + extra + 30):
+        a = green_integral("sc", E, c3, digits + extra + 10)
+        x = -mpmath.im(a) / mpmath.pi
+        r, centre = _round_estimate(x, mpmath.mpf(10) ** -(digits + extra + 8) * abs(a) /
+                                    mpmath.pi, digits, what)
+        extra_b = _extra_digits("sc", c, E, zero, lambda d: green_bessel(E, c3, d))
+        b = green_bessel(E, c3, digits + extra_b + 3)
+        qf = _frac(-mpmath.im(b) / mpmath.pi)
+    agree = agreement_digits(centre, qf, digits)
+    if agree < digits:
+        raise VerificationError(f"{what}: 1-D integral and Bessel integral agree to only "
+                                f"{agree} of {digits} digits")
+    return Result("sc", "local-dos", s, c, digits, str(r), None, r.half_ulp(),
+                  ("integral", "bessel"), agree,
+                  notes=("the value is the 1-D integral with 10 guard digits (error estimate, "
+                         "not a proof), confirmed by the time-domain Bessel integral",),
+                  energy=str(E))
 
 
 for _name in ("sc", "bcc", "fcc"):
@@ -383,15 +444,15 @@ class TableForm:
 
 
 class CubicGreen(Provider):
-    """sc / bcc x green bound to one energy: tables for complex E or real E outside the band
-    (inside it only the origin and the nearest neighbour have two methods).  Batches are the
-    columns (l, m) of the canonical region; the origin and the nearest neighbour come from
-    the closed form (certified balls), every other site from the 1-D integral with 10 guard
-    digits; every row is checked by the reduced 2-D rule at full digits."""
+    """sc / bcc x green bound to one energy (bcc: complex E or real E outside the band; sc:
+    any).  Batches are the columns (l, m) of the canonical region; the origin and the nearest
+    neighbour come from the closed form (certified balls), every other site from the 1-D
+    integral with 10 guard digits; every row is checked at full digits by the time-domain
+    Bessel integral (sc, extent up to 12) or the reduced 2-D rule (bcc)."""
 
     complex_valued = True
     exact_limit = 60
-    table_limit = 12
+    table_limit = BESSEL_MAX
     max_digits = MAX_DIGITS_QUAD
     parallel_min_sites = 20
     primary_text = ("closed forms of G(E;0) (and (E G0 - 1)/z at the nearest neighbour) as "
@@ -399,20 +460,24 @@ class CubicGreen(Provider):
                     "the square lattice's closed form, rounded with 10 guard digits (error "
                     "bound an estimate)")
     check_text = "the reduced 2-D polar Gauss-Legendre rule"
+    check_name = "quadrature"
     energy: Energy
 
     def __init__(self, lattice: str, energy: Energy) -> None:
         self.lattice = get_lattice(lattice)
         self.quantity = "green"
         self.energy = energy
+        if lattice == "sc":  # table_limit <= BESSEL_MAX: every sc row has the Bessel check
+            self.check_text = "the time-domain Bessel integral (methods/sc_green_bessel.py)"
+            self.check_name = "bessel"
         self.energy_methods = {
             "primary": self.primary_text + f"; G0 = {CLOSED_TEXT[lattice]}",
             "check": self.check_text + " at full digits (of each component) for every row"}
-        if _inside(lattice, energy):
+        if lattice == "bcc" and _inside(lattice, energy):
             lo, hi = self.lattice.band
-            raise InputError(f"a {lattice} green table needs a complex energy or a real one "
-                             f"outside the band ({lo}, {hi}): inside it only the origin and "
-                             "the nearest neighbour have two methods here")
+            raise InputError(f"a bcc green table needs a complex energy or a real one outside "
+                             f"the band ({lo}, {hi}): inside it only the origin and the "
+                             "nearest neighbour have two methods here")
 
     def _columns(self, extent: int) -> Iterator[list[Site]]:
         lat = self.lattice
@@ -460,10 +525,10 @@ class CubicGreen(Provider):
 
     def row_method(self, c: Site) -> str:
         closed = not any(c) or c == NEIGHBOUR[self.lattice.name]
-        return "closed-form;quadrature" if closed else "integral;quadrature"
+        return f"{'closed-form' if closed else 'integral'};{self.check_name}"
 
     def quad_sites(self, sites: list[Site], digits: int) -> list:
-        return [quad_value(self.lattice.name, c, self.energy, digits) for c in sites]
+        return [_second(self.lattice.name, c, self.energy, digits)[2] for c in sites]
 
     def memory_estimate(self, extent: int) -> int:
         return 100_000_000
