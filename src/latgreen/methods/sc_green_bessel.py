@@ -120,7 +120,7 @@ def green_bessel(E: Energy, site: tuple[int, int, int], dps: int) -> Any:
     >>> from latgreen.energy import parse_energy
     >>> # G(6; 1,0,0) = W_sc/2 - 1/6 (lattice equation at the origin; W_sc: OEIS A086231 / 3)
     >>> mpmath.nstr(green_bessel(parse_energy("6", "sc"), (1, 0, 0), 15).real, 12)
-    '0.0860643431920'
+    '0.086064343192'
     """
     site = (abs(site[0]), abs(site[1]), abs(site[2]))
     if max(site) > MAX_ORDER:
