@@ -1,24 +1,29 @@
-"""sc and bcc: G(E; r), the density of states and the local DOS at an exact energy.
+"""sc, bcc, fcc: G(E; r), the density of states and the local DOS at an exact energy.
 
-Registered in ``green_api.BACKENDS`` (bottom of this module).  What is offered, and how each
-printed digit is confirmed (two independent methods every time):
+Registered in ``green_api.BACKENDS`` and, for green tables, ``quantities.PARAMETRISED``
+(bottom of this module).  What is offered, and how each printed digit is confirmed (two
+independent methods every time, or a one-line InputError):
 
-* G(E; 0), any admissible E (complex, real off the band, real on the band as E + i0; the sc
-  also at E = 0): the closed forms of ``methods/cubic_green_closed.py`` (Joyce's for sc,
-  (1/E)(2K(u)/pi)^2 for bcc) as certified acb balls, each component correctly rounded;
-  confirmed on every printed digit by the 1-D integral over k3 of the square lattice's
-  closed form (``methods/cubic_green_integral.py``).
-* G(E; r), r != 0, for complex E or real E outside the band or on its edges (the bcc
-  quantity is real there): the 1-D integral (10 guard digits) confirmed by the reduced 2-D
-  polar Gauss-Legendre rule (``methods/cubic_quadrature.green_energy_quad``).  Both are
-  quadratures: the printed digits are those of the 1-D integral rounded with its 10 guard
-  digits, and the error bound is an estimate (said in ``notes``).  For real E strictly inside
-  the band only the 1-D integral works here (the 2-D rule needs the integrand off its
-  singular curve), so such requests are refused with one line.
-* dos(E) = -Im G(E + i0; 0)/pi: the closed form's ball, confirmed by the 1-D integral; 0
-  outside the band and at its edges (G is real there).
-* local_dos(E; r): r = 0 as dos; r != 0 only outside the band (0 by definition: G real);
-  refused inside the band (one method only, as for green).
+* G(E; 0), sc and bcc at any admissible E (complex, real off the band, E + i0 on it; sc also
+  E = 0), fcc for complex E and real E outside [-4, 12) (E = 12 included): the closed forms
+  of ``methods/cubic_green_closed.py`` as certified acb balls, each component correctly
+  rounded; confirmed by the 1-D integral over k3 of the square lattice's closed form
+  (``methods/cubic_green_integral.py``; sc, bcc) or the reduced 2-D rule (fcc).
+* The nearest neighbour z: G = (E G(E; 0) - 1)/z, the lattice equation at the origin (all z
+  neighbours are equivalent), as a ball from the same closed form; same checks.
+* Other sites (coordinates up to 60): the 1-D integral rounded with 10 guard digits (the
+  error bound is an estimate, said in ``notes``), confirmed by the time-domain Bessel
+  integral (``methods/sc_green_bessel.py``; sc, coordinates up to 12, any energy) or else
+  by the reduced 2-D rule (``methods/cubic_quadrature.green_energy_quad``; off the band
+  only).  Inside the band the bcc beyond the nearest neighbour and sc sites with a
+  coordinate above 12 have one method only and are refused; so is every fcc site beyond the
+  nearest neighbour, and the fcc inside its band.
+* dos(E) = -Im G(E + i0; 0)/pi: the closed form's ball, confirmed by the 1-D integral (sc,
+  bcc); 0 outside the band and at its edges (G is real there); fcc refused inside its band.
+* local_dos(E; r): the origin and the nearest neighbour as dos; other sc sites inside the
+  band from the 1-D integral confirmed by the Bessel integral; 0 outside the band.
+* Tables at one energy (``CubicGreen``): sc at any energy and bcc off the band, extent up to
+  12, every row checked by the Bessel integral (sc) or the 2-D rule (bcc).
 """
 
 from __future__ import annotations
