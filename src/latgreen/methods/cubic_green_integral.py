@@ -205,16 +205,25 @@ def _integrand(lattice: str, E: Energy, site: tuple[int, int, int]) -> Any:
     if lattice == "sc":
         sq = (l, m)
         fac = 1 / pi
-        kas = {a: mpmath.acos((Ez - a) / 2) for a in (4, 0, -4)}
+        cos_ka = {a: (Ez - a) / 2 for a in (4, 0, -4)}
     else:
         sq = ((l + m) // 2, (l - m) // 2)
         fac = 2 / pi
-        kas = {4: mpmath.acos(Ez / 8), -4: mpmath.acos(-Ez / 8)}
+        cos_ka = {4: Ez / 8, -4: -Ez / 8}
+    # k_a and pi - k_a = acos(-cos k_a), each accurate: next to k = k_a = pi the first sine's
+    # argument (k + k_a)/2 is close to pi and is taken as pi minus ((pi - k) + (pi - k_a))/2
+    kas = {a: (mpmath.acos(c), mpmath.acos(-c)) for a, c in cos_ka.items()}
+
+    def sine_sum(base: Any, h: Any, ka: Any, kc: Any) -> Any:
+        """sin((k + k_a)/2), k = base + h."""
+        if mpmath.re(base + ka) > pi:
+            return mpmath.sin(((pi - base) + kc - h) / 2)
+        return mpmath.sin((base + h + ka) / 2)
 
     def f(base: Any, h: Any) -> Any:
         k = base + h
-        d = {a: 4 * mpmath.sin((k + ka) / 2) * mpmath.sin(((base - ka) + h) / 2)
-             for a, ka in kas.items()}  # 2 (cos k_a - cos k)
+        d = {a: 4 * sine_sum(base, h, ka, kc) * mpmath.sin(((base - ka) + h) / 2)
+             for a, (ka, kc) in kas.items()}  # 2 (cos k_a - cos k)
         if on_cut:
             d = {a: mpmath.re(v) for a, v in d.items()}
         if lattice == "sc":
@@ -265,13 +274,19 @@ def green_integral(lattice: str, E: Energy, site: tuple[int, int, int], dps: int
     >>> mpmath.nstr(green_integral("sc", parse_energy("6", "sc"), (0, 0, 0), 20).real, 15)
     '0.252731009858663'
     """
-    wdps, maxdeg = dps + 15, None
-    for _ in range(4):
-        v, err = _one_pass(lattice, E, site, wdps, maxdeg)
-        with mpmath.workdps(wdps):
-            if v != 0 and err <= abs(v) * mpmath.mpf(10) ** -(dps + 3):
-                with mpmath.workdps(dps + 10):
-                    return +v
-        wdps, maxdeg = wdps + 10, (maxdeg or 6) + 2
+    l, m, n = site
+    # sc: G(l, m, n) is symmetric in its coordinates, so (S) may integrate along any axis;
+    # the other orders are tried when the first one's error estimate stalls (seen at the van
+    # Hove energies E = +-2, where some square sites converge slowly at the end k = 0)
+    orders = [(l, m, n), (m, n, l), (l, n, m)] if lattice == "sc" else [(l, m, n)]
+    for order in dict.fromkeys(orders):
+        wdps, maxdeg = dps + 15, None
+        for _ in range(3):
+            v, err = _one_pass(lattice, E, order, wdps, maxdeg)
+            with mpmath.workdps(wdps):
+                if v != 0 and err <= abs(v) * mpmath.mpf(10) ** -(dps + 3):
+                    with mpmath.workdps(dps + 10):
+                        return +v
+            wdps, maxdeg = wdps + 10, (maxdeg or 6) + 2
     raise PrecisionError(f"the 1-D integral for {lattice} G({E}; {site}) did not reach "
                          f"{dps} digits")
