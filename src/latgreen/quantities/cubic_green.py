@@ -135,7 +135,7 @@ class NeighbourForm(ClosedForm):
 
     def __str__(self) -> str:
         z = get_lattice(self.lattice).z
-        return f"(E*G0 - 1)/{z}, G0 = G(E;0) as below"
+        return f"(E*G0 - 1)/{z}, G0 = G(E;0) (see exact_basis)"
 
 
 def _ball(lattice: str, c: Site, E: Energy, bits: int) -> Any:
