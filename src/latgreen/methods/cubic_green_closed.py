@@ -1,5 +1,5 @@
 """Closed forms of G(E; 0) for the sc and bcc lattices as rigorous acb balls, at any exact
-energy (E + i0 on the band), and for the fcc lattice off its band.
+energy (E + i0 on the band), and for the fcc lattice (prefactor identified).
 
 Conventions (DESIGN.md): hopping +1, G(E; 0) = <0|(E - H)^-1|0>, analytic on C minus the band
 ([-6, 6] sc, [-8, 8] bcc), G(conj E) = conj G(E); on the band the retarded limit E + i0.
@@ -62,13 +62,20 @@ rational function of xi of degrees (3, 4) with integer coefficients, which facto
 Checks (tests/test_cubic_green.py): at E = 12 (w = 3) it gives Watson's W_fcc/4 to all 30
 published digits; its large-E series reproduces the closed-walk counts (OEIS A002899,
 recounted by brute force); it agrees with the 2-D quadrature to 40 digits at complex E and at
-real E on both sides outside the band.  The roots' arguments 1 + 4/E and 1 - 12/E lie on
-(-oo, 0] only for real E in [-4, 0) and (0, 12], so the principal roots are analytic off the
-band (the continuation into the band and E + i0 are not offered: no second method there;
-a manual check, evaluated at E = x + 1e-12 i with principal branches in mpmath, gave a DOS
-whose moments 0..3 are 1, 0, 12, 48 -- the closed-walk counts -- to 1e-10, so the form very
-likely holds across the band as well).  Status: *identified* (conjectural beyond the digits
-verified).
+real E on both sides outside the band, and inside the band with the independent 1-D integral
+of Carlson's R_F (``methods/fcc_green_nested.py``); its DOS has the moments 1, 0, 12, 48.
+Status: *identified* (conjectural beyond the digits verified).
+
+Branches.  The roots' arguments 1 + 4/E and 1 - 12/E lie on (-oo, 0] only for real E in
+[-4, 0) and (0, 12], so the principal roots are analytic off the band.  On the band, E + i0:
+for 0 < E < 12, 1 - 12/(E + i0) lies just above the negative axis, which the principal root
+of the exact real value already takes (+i|.|^(1/2)); for -4 < E < 0, 1 + 4/(E + i0) lies just
+*below* it, so sqrt(1 + 1/w) = -i |1 + 4/E|^(1/2) is built explicitly.  E = 0 is the limit
+E -> 0 (w -> 0: xi -> -i/sqrt(3), k^2 -> e^(i pi/3), the prefactor -> -i sqrt(3)/4):
+
+    G_fcc(0 + i0; 0) = -(i sqrt(3)/4) (2 K(e^(i pi/3))/pi)^2,
+
+confirmed by the nested integral to 40 digits.  E = -4 is refused (the DOS diverges).
 
 All inputs of the roots are exact Gaussian rationals (zeta^2 = 36/E^2 formed in Fractions);
 the balls are python-flint's, so every result is a rigorous enclosure.
@@ -133,11 +140,15 @@ def _bcc_quadrant(E: Energy) -> acb:
 
 
 def _fcc(E: Energy) -> acb:
-    """G_fcc(E; 0) for E off the band [-4, 12] or at E = 12, at the current precision."""
+    """G_fcc(E; 0) at the current precision, E != 0, -4."""
     Ez = _acb((E.re, E.im))
     n = E.re * E.re + E.im * E.im
     inv = (E.re / n, -E.im / n)  # 1/E exactly
-    r1 = _acb((1 + 4 * inv[0], 4 * inv[1])).sqrt()  # sqrt(1 + 1/w), w = E/4
+    if E.im == 0 and -4 < E.re < 0:  # 1 + 4/(E + i0) lies just below the negative axis
+        t = 1 + 4 * inv[0]
+        r1 = acb(0, -arb(fmpq((-t).numerator, (-t).denominator)).sqrt())
+    else:
+        r1 = _acb((1 + 4 * inv[0], 4 * inv[1])).sqrt()  # sqrt(1 + 1/w), w = E/4
     r3 = _acb((1 - 12 * inv[0], -12 * inv[1])).sqrt()  # sqrt(1 - 3/w)
     iw = 4 / Ez  # 1/w
     k2 = arb(1) / 2 - 2 * iw / r1**3 - (1 - iw) * r3 / (2 * r1**3)
@@ -147,8 +158,7 @@ def _fcc(E: Energy) -> acb:
 
 
 def origin_ball(lattice: str, E: Energy, prec: int) -> acb:
-    """G(E; 0) of ``lattice`` ("sc", "bcc"; "fcc" off its band) as an acb ball at about
-    ``prec`` bits.
+    """G(E; 0) of ``lattice`` ("sc", "bcc", "fcc") as an acb ball at about ``prec`` bits.
 
     >>> from latgreen.energy import parse_energy
     >>> # W_bcc / 8 at the band edge (OEIS A091670: W_bcc = 1.3932039296...)
@@ -160,8 +170,11 @@ def origin_ball(lattice: str, E: Energy, prec: int) -> acb:
     try:
         ctx.prec = prec + 30
         if lattice == "fcc":
-            if E.im == 0 and -4 <= E.re < 12:
-                raise ValueError("the fcc closed form is offered off the band [-4, 12) only")
+            if E.im == 0 and E.re == -4:
+                raise ValueError("G_fcc(E; 0) diverges at E = -4")
+            if E.im == 0 and E.re == 0:  # the limit (module docstring)
+                w = acb(arb(1) / 2, arb(3).sqrt() / 2)  # e^(i pi/3)
+                return +(acb(0, -arb(3).sqrt() / 4) * (2 * w.elliptic_k() / arb.pi()) ** 2)
             return +_fcc(E)
         if E.im == 0 and E.re == 0:
             if lattice != "sc":

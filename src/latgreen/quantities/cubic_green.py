@@ -4,11 +4,12 @@ Registered in ``green_api.BACKENDS`` and, for green tables, ``quantities.PARAMET
 (bottom of this module).  What is offered, and how each printed digit is confirmed (two
 independent methods every time, or a one-line InputError):
 
-* G(E; 0), sc and bcc at any admissible E (complex, real off the band, E + i0 on it; sc also
-  E = 0), fcc for complex E and real E outside [-4, 12) (E = 12 included): the closed forms
-  of ``methods/cubic_green_closed.py`` as certified acb balls, each component correctly
-  rounded; confirmed by the 1-D integral over k3 of the square lattice's closed form
-  (``methods/cubic_green_integral.py``; sc, bcc) or the reduced 2-D rule (fcc).
+* G(E; 0) at any admissible E (complex, real off the band, E + i0 on it; sc and fcc also
+  E = 0): the closed forms of ``methods/cubic_green_closed.py`` as certified acb balls, each
+  component correctly rounded; confirmed by the 1-D integral over k3 of the square lattice's
+  closed form (``methods/cubic_green_integral.py``; sc, bcc) or, for the fcc, by the nested
+  1-D integral of Carlson's R_F inside the band (``methods/fcc_green_nested.py``) and the
+  reduced 2-D rule outside it.
 * The nearest neighbour z: G = (E G(E; 0) - 1)/z, the lattice equation at the origin (all z
   neighbours are equivalent), as a ball from the same closed form; same checks.
 * Other sites (coordinates up to 60): the 1-D integral rounded with 10 guard digits (the
@@ -17,9 +18,9 @@ independent methods every time, or a one-line InputError):
   by the reduced 2-D rule (``methods/cubic_quadrature.green_energy_quad``; off the band
   only).  Inside the band the bcc beyond the nearest neighbour and sc sites with a
   coordinate above 12 have one method only and are refused; so is every fcc site beyond the
-  nearest neighbour, and the fcc inside its band.
+  nearest neighbour.
 * dos(E) = -Im G(E + i0; 0)/pi: the closed form's ball, confirmed by the 1-D integral (sc,
-  bcc); 0 outside the band and at its edges (G is real there); fcc refused inside its band.
+  bcc) or the nested R_F integral (fcc); 0 outside the band and at its edges.
 * local_dos(E; r): the origin and the nearest neighbour as dos; other sc sites inside the
   band from the 1-D integral confirmed by the Bessel integral; 0 outside the band.
 * Tables at one energy (``CubicGreen``): sc at any energy and bcc off the band, extent up to
@@ -45,6 +46,7 @@ from ..lattices.cubic import Cubic
 from ..methods.cubic_green_closed import origin_ball
 from ..methods.cubic_green_integral import green_integral
 from ..methods.cubic_quadrature import green_energy_quad
+from ..methods.fcc_green_nested import green_fcc_nested
 from ..methods.sc_green_bessel import MAX_ORDER as BESSEL_MAX
 from ..methods.sc_green_bessel import green_bessel
 from ..rounding import ZERO, Rounded, agreement_digits, round_interval
@@ -77,7 +79,8 @@ CLOSED_TEXT = {
 }
 FCC_NOTE = ("the fcc closed form's prefactor was identified by us (exact rational fit in xi, "
             "verified to 40 digits against quadrature, the band-edge Watson value and the "
-            "walk counts); the printed digits are confirmed by the 2-D quadrature")
+            "walk counts); the printed digits are confirmed by the 2-D quadrature (off the "
+            "band) or the nested R_F integral (inside it)")
 
 
 class ClosedForm:
@@ -121,12 +124,6 @@ def _inside(lattice: str, E: Energy) -> bool:
     return E.im == 0 and lo < E.re < hi
 
 
-def _fcc_in_band(what: str) -> InputError:
-    return InputError(f"the fcc {what} for real E inside the band (-4, 12) is not offered: its "
-                      "closed form is verified off the band only and the quadrature needs "
-                      "E off the band (ask at a complex energy or E < -4, E >= 12)")
-
-
 NEIGHBOUR = {"sc": (1, 0, 0), "bcc": (1, 1, 1), "fcc": (1, 1, 0)}
 
 
@@ -156,22 +153,34 @@ def _ball(lattice: str, c: Site, E: Energy, bits: int) -> Any:
         ctx.prec = old
 
 
+def _check_value(lattice: str, c: Site, E: Energy, dps: int) -> tuple[str, Any]:
+    """(method, value) of the independent check at the origin or the nearest neighbour:
+    the 1-D integral (sc, bcc); for the fcc the nested R_F integral inside the band (at the
+    neighbour through the same lattice equation, with 10 more digits against its
+    cancellation) and the 2-D rule outside it."""
+    c3 = (c[0], c[1], c[2])
+    if lattice != "fcc":
+        return "integral", green_integral(lattice, E, c3, dps)
+    if not _inside(lattice, E):
+        return "quadrature", green_energy_quad(lattice, c3, E, dps)
+    q0 = green_fcc_nested(E, dps + 10)
+    if not any(c):
+        return "integral", q0
+    with mpmath.workdps(dps + 20):
+        x = mpmath.mpf(E.re.numerator) / E.re.denominator
+        return "integral", (x * q0 - 1) / 12
+
+
 def _origin(lattice: str, s: Site, E: Energy, digits: int, c: Site = (0, 0, 0)) -> GreenResult:
     """G(E; 0) or G(E; nearest neighbour) from the closed form, confirmed by the 1-D
-    integral (sc, bcc) or the 2-D quadrature (fcc)."""
-    if lattice == "fcc" and _inside(lattice, E):
-        raise _fcc_in_band("G(E; r)")
-    c3 = (c[0], c[1], c[2])
+    integral (sc, bcc), the nested R_F integral (fcc inside the band) or the 2-D quadrature
+    (fcc outside it)."""
     zero = zero_parts(lattice, E, c)
     v = certify_complex(lambda bits: _ball(lattice, c, E, bits), _start_bits(digits) + 64,
                         digits, zero, f"G({E};{c})")
     dps = quad_digits_needed(v, digits)
-    second = "quadrature" if lattice == "fcc" else "integral"
     with mpmath.workdps(dps + 5):
-        if lattice == "fcc":
-            q = green_energy_quad(lattice, c3, E, dps)
-        else:
-            q = green_integral(lattice, E, c3, dps)
+        second, q = _check_value(lattice, c, E, dps)
         qf = (_frac(mpmath.re(q)), _frac(mpmath.im(q)))
     agree = component_agreement(v.center, qf, zero, digits)
     if agree < digits:
@@ -276,10 +285,14 @@ def _second(lattice: str, c: Site, E: Energy, digits: int
 
 def _refuse_one_method(lattice: str, c: Site, E: Energy, what: str = "G(E; r)") -> None:
     """InputError where, inside the band, the 1-D integral has no independent check: every
-    bcc site beyond the nearest neighbour, sc sites with a coordinate above 12."""
+    bcc site beyond the nearest neighbour, sc sites with a coordinate above 12 (fcc sites
+    beyond the neighbour are refused everywhere, see _site)."""
     if lattice == "sc" and max(c) <= BESSEL_MAX:
         return
     lo, hi = get_lattice(lattice).band
+    if lattice == "fcc":
+        raise InputError(f"fcc {what} beyond the nearest neighbour (1, 1, 0) has one method "
+                         "here (a quadrature) and no independent check")
     where = f"with a coordinate above {BESSEL_MAX} " if lattice == "sc" else ""
     raise InputError(f"{lattice} {what} for real E inside the band ({lo}, {hi}) beyond the "
                      f"nearest neighbour {NEIGHBOUR[lattice]} {where}has one method here (the "
@@ -350,8 +363,6 @@ def _density(lattice: str, quantity: str, s: Site, E: Energy, digits: int,
                          "confirming quadrature grows too costly beyond)")
     if not _inside(lattice, E):
         return _zero_result(lattice, quantity, s, c, E, digits)
-    if lattice == "fcc":
-        raise _fcc_in_band("density of states")
     from flint import arb, ctx
 
     def build(bits: int) -> Any:
@@ -367,7 +378,7 @@ def _density(lattice: str, quantity: str, s: Site, E: Energy, digits: int,
                               f"the {quantity} at E = {E}")
     dps = digits + 3
     with mpmath.workdps(dps + 5):
-        q = -mpmath.im(green_integral(lattice, E, (c[0], c[1], c[2]), dps)) / mpmath.pi
+        q = -mpmath.im(_check_value(lattice, c, E, dps)[1]) / mpmath.pi
         qf = _frac(q)
     agree = agreement_digits(centre, qf, digits)
     if agree < digits:
@@ -395,8 +406,6 @@ def _local_dos(lattice: str) -> Any:
             return _density(lattice, "local-dos", s, E, digits, c)
         if not _inside(lattice, E):
             return _zero_result(lattice, "local-dos", s, c, E, digits)
-        if lattice == "fcc":
-            raise _fcc_in_band("local density of states")
         _refuse_one_method(lattice, c, E, "local DOS")
         return _local_dos_site(s, c, E, digits)
 

@@ -354,6 +354,10 @@ DOS_METHODS = {
              "check": "-Im of the 1-D integral over k3 of the square lattice's closed form, "
                       "/pi, at full digits for every row"}
        for lat, how in (("sc", "Joyce 1973"), ("bcc", "(1/E)(2K(u)/pi)^2"))},
+    "fcc": {"primary": "-Im G(E+i0;0)/pi from the closed form of G(E;0) (prefactor identified) "
+                       "as a python-flint ball, correctly rounded",
+            "check": "-Im of the 1-D integral of Carlson's R_F (methods/fcc_green_nested.py), "
+                     "/pi, at full digits for every row"},
 }
 
 
