@@ -19,6 +19,12 @@ G(conj E) = conj G(E)).  The real energies where G(E; 0) is infinite depend on t
 * honeycomb: E = +-3 (band edges), E = +-1 (van Hove points).  Its Dirac point E = 0 is
   accepted: G(0; r) is the finite limit E -> 0 (0 on the A sites, p + q sqrt(3)/pi on the B
   sites; ``exact/trihex_green.py``), the density of states is 0 there.
+* bcc: E = 0 (band centre): the density of states diverges (like log^2|E|), so
+  Im G(0 + i0; 0) is infinite;
+* fcc: E = -4 (lower band edge): the density of states diverges logarithmically.
+
+The sc lattice has no such point: G(E; 0) is finite on the whole real axis (at the band
+edges +-6 it is Watson's integral).
 """
 
 from __future__ import annotations
@@ -112,6 +118,10 @@ SINGULAR: dict[str, dict[Fraction, str]] = {
                    Fraction(-2): _HOVE.format(x=-2)},
     "honeycomb": {Fraction(3): _EDGE.format(x="+-3", lat="honeycomb"),
                   Fraction(1): _HOVE.format(x="+-1")},
+    "bcc": {Fraction(0): "the bcc band centre E = 0 where the density of states diverges "
+                         "(like log^2|E|) and Im G(E+i0;0) is infinite"},
+    "fcc": {Fraction(-4): "the fcc lower band edge E = -4 where the density of states "
+                          "diverges logarithmically and G(E;0) is infinite"},
 }
 # symmetric spectra: a refused E refuses -E too
 _SYMMETRIC = {"square", "honeycomb"}

@@ -257,3 +257,131 @@ def resistance_sites_float(lattice: str, sites: Sequence[Site]) -> list[float]:
     c1, c2, rho, W = _setup(lattice, k1, k2, w, math.sin, math.sqrt)
     base, sums = _sums(lattice, sites, c1, c2, rho, W)
     return [float(2 * (base - x)) if any(s) else 0.0 for s, x in zip(sites, sums, strict=True)]
+
+
+# ---------------------------------------------------------------- G(E; r) off the band
+
+def _csqrt(x: Any) -> Any:
+    """Principal square root, complex for a negative real."""
+    if isinstance(x, gmpy2.mpc) or x >= 0:
+        return gmpy2.sqrt(x)
+    return gmpy2.sqrt(gmpy2.mpc(x))
+
+
+def _energy_integrand(lattice: str, E: Any, dE: Any, k1: Any, k2: Any,
+                      site: Site) -> Any:
+    """The reduced integrand of G(E; site) (module docstring) at one node; dE = E - z is
+    passed separately so that A - B is free of cancellation.  The inner closed form
+    rho^p / s with s = sqrt(A - B) sqrt(A + B) (two principal roots, ~ A at infinity, so
+    |rho| < 1) holds for A off [-|B|, |B|], i.e. for every node when E is off the band."""
+    h1, h2 = gmpy2.sin(k1 / 2), gmpy2.sin(k2 / 2)
+    u1, u2 = 2 * h1 * h1, 2 * h2 * h2
+    c1, c2 = 1 - u1, 1 - u2
+    a, b, p = _order(lattice, site)
+    if lattice == "sc":
+        A, B, AmB = E - 2 * c1 - 2 * c2, gmpy2.mpfr(2), dE + 2 * (u1 + u2)
+    elif lattice == "bcc":
+        A, B, AmB = E, 8 * c1 * c2, dE + 8 * (u1 + c1 * u2)
+    else:
+        A, B, AmB = E - 4 * c1 * c2, 4 * (c1 + c2), dE + 4 * (2 * u1 + 2 * u2 - u1 * u2)
+    s = _csqrt(AmB) * _csqrt(A + B)
+    v = 1 / s
+    if p:
+        v *= (B / (A + s)) ** p
+    ta = _cheb_scalar(c1, a)
+    tb = _cheb_scalar(c2, b)
+    return v * ta * tb
+
+
+def _cheb_scalar(c: Any, a: int) -> Any:
+    t0, t1 = 1, c
+    if a == 0:
+        return 1
+    for _ in range(a - 1):
+        t0, t1 = t1, 2 * c * t1 - t0
+    return t1
+
+
+def _energy_rule(lattice: str, E: Any, dE: Any, site: Site, degree: int, bits: int) -> Any:
+    """Product Gauss-Legendre rule in polar coordinates about the corner k = 0 (the same
+    pieces as at the band edge; off the band the integrand is analytic, the polar rule is
+    kept so that E close to z is no worse than E = z)."""
+    raw = _gl_nodes(degree, bits + 20)
+    mpfr = gmpy2.mpfr
+    std = [((gmpy2.mul_2exp(mpfr(xm), xe) + 1) / 2, gmpy2.mul_2exp(mpfr(wm), we) / 2)
+           for xm, xe, wm, we in raw]
+    pi = gmpy2.const_pi()
+    pieces: list[tuple[Any, Any, tuple[str, Any] | None]]
+    if lattice == "fcc":
+        pieces = [(mpfr(0), pi / 2, None)]
+        factor = 2 / pi**2
+    else:
+        side = pi if lattice == "sc" else pi / 2
+        pieces = [(mpfr(0), pi / 4, ("c", side)), (pi / 4, pi / 2, ("s", side))]
+        factor = (1 if lattice == "sc" else 4) / pi**2
+    total: Any = 0
+    for t0, t1, kind in pieces:
+        dt = t1 - t0
+        for xt, wt in std:
+            t = t0 + dt * xt
+            c, s = gmpy2.cos(t), gmpy2.sin(t)
+            R = pi / (c + s) if kind is None else kind[1] / (c if kind[0] == "c" else s)
+            acc: Any = 0
+            for xr, wr in std:
+                r = R * xr
+                acc += wr * r * _energy_integrand(lattice, E, dE, r * c, r * s, site)
+            total += wt * dt * R * acc
+    return factor * total
+
+
+def green_energy_quad(lattice: str, site: Site, E: Any, dps: int) -> mpmath.mpc:
+    """G(E; site) at a canonical ``site`` by the reduced 2-D polar Gauss-Legendre rule, for
+    complex E (Im E > 0) or real E outside the band or at its upper edge (E is an
+    ``energy.Energy``); about ``dps`` digits relative to |G|.  Degrees d and d + 1 must agree
+    to dps + 3 digits (an estimate, not a bound); PrecisionError otherwise (E very close to
+    the band).  For sc and bcc a real E below the band is mapped by the bipartite symmetry
+    G(-E; r) = -(-1)^(l+m+n) G(E; r) (sc), -(-1)^l G(E; r) (bcc); for the fcc it is
+    integrated directly (A < -|B| at every node: the product of the two principal roots is
+    then -sqrt((A - B)(A + B)), again the branch ~ A).
+
+    >>> from latgreen.energy import parse_energy
+    >>> mpmath.nstr(green_energy_quad("sc", (0, 0, 0), parse_energy("7", "sc"), 15).real, 12)
+    '0.170523806949'
+    """
+    from ..errors import PrecisionError
+
+    z = {"sc": 6, "bcc": 8, "fcc": 12}[lattice]
+    lo = {"sc": -6, "bcc": -8, "fcc": -4}[lattice]
+    sign = 1
+    er, ei = E.re, E.im
+    if ei == 0 and lo < er < z:
+        raise ValueError(f"real energy {E} inside the {lattice} band: the reduced 2-D rule "
+                         "needs Im E > 0 or E outside the band")
+    if ei == 0 and er <= lo and lattice != "fcc":
+        par = sum(site) if lattice == "sc" else site[0]
+        sign, er = -(-1) ** par, -er
+    bits = int((dps + 15) * LOG2_10) + 32
+    with gmpy2.context(gmpy2.get_context(), precision=bits):
+        Ev: Any
+        if ei == 0:
+            Ev = gmpy2.mpfr(er.numerator) / er.denominator
+            dE = gmpy2.mpfr(er - z) if (er - z).denominator == 1 else \
+                gmpy2.mpfr((er - z).numerator) / (er - z).denominator
+        else:
+            Ev = gmpy2.mpc(gmpy2.mpfr(er.numerator) / er.denominator,
+                           gmpy2.mpfr(ei.numerator) / ei.denominator)
+            dE = Ev - z
+        tol = gmpy2.mpfr(10) ** -(dps + 3)
+        prev = None
+        degree = 5 if dps <= 30 else (6 if dps <= 65 else 7)
+        while degree <= 8:
+            val = _energy_rule(lattice, Ev, dE, site, degree, bits)
+            if prev is not None and abs(val - prev) <= tol * abs(val):
+                re_ = _to_mpf(gmpy2.mpfr(val.real) if isinstance(val, gmpy2.mpc) else val)
+                im_ = _to_mpf(val.imag) if isinstance(val, gmpy2.mpc) else mpmath.mpf(0)
+                with mpmath.workprec(bits):
+                    return mpmath.mpc(sign * re_, sign * im_)
+            prev = val
+            degree += 1
+    raise PrecisionError(f"the reduced 2-D rule did not reach {dps} digits for {lattice} "
+                         f"G({E}; {site}) (E too close to the band)")

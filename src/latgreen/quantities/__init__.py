@@ -68,6 +68,9 @@ def get_provider(lattice: str, quantity: str, energy: object = None) -> Provider
             raise InputError(f"quantity {quantity!r} needs an energy (--energy E)")
         return factory(parse_energy(energy, lat.name))
     if energy is not None:
+        if quantity == "green":
+            raise InputError(f"a green table is not available for the {lat.name} lattice yet; "
+                             f"single values: latgreen green {lat.name} ... --energy E")
         raise InputError(f"quantity {quantity!r} takes no energy")
     if quantity == "dos":
         raise InputError("a dos table is a grid of energies: use --energies A:B:COUNT")

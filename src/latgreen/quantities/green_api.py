@@ -301,6 +301,8 @@ def local_dos(lattice: str, site: Sequence[object], energy: object, digits: int 
                                           get_lattice(lattice).name, "local-dos"), digits)
 
 
+from . import cubic_green  # noqa: E402, F401 - registers the sc and bcc backends
+
 __all__ = ["BACKENDS", "ZERO", "GreenBackend", "GreenResult", "dos", "green", "local_dos"]
 
 

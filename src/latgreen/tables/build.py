@@ -360,16 +360,23 @@ def _complex_block(provider: Provider, eb: Any, checks: Sequence[Any], digits: i
         k = bad[0]
         raise VerificationError(
             f"{provider.lattice.name} {provider.quantity} at E = {provider.energy}, site "
-            f"{eb.sites[k]}: recurrence and quadrature agree to only {agree[k]} digits "
-            f"(need {digits})")
+            f"{eb.sites[k]}: the primary method and the quadrature agree to only "
+            f"{agree[k]} digits (need {digits})")
     forms = eb.forms if with_exact and eb.forms is not None else None
     n = len(eb.sites)
     return RowBlock(
         sites=eb.sites, values=re_c.values,
         exacts=[str(f) for f in forms] if forms is not None else [""] * n,
         hows=[f.how for f in forms] if forms is not None else [""] * n,
-        bounds=re_c.bounds, methods=["recurrence;quadrature"] * n, agreements=agree,
+        bounds=re_c.bounds, methods=_row_methods(provider, eb.sites), agreements=agree,
         imags=im_c.values, imag_bounds=im_c.bounds)
+
+
+def _row_methods(provider: Provider, sites: Sequence[Any]) -> list[str]:
+    """The methods column of complex rows: the provider's ``row_method(site)`` if it has
+    one (the cubic green tables), else the square green's recurrence and quadrature."""
+    f = getattr(provider, "row_method", None)
+    return [f(s) for s in sites] if f is not None else ["recurrence;quadrature"] * len(sites)
 
 
 def _block(provider: Provider, eb: Any, checks: Sequence[Any], full: bool, digits: int,

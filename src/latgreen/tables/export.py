@@ -232,6 +232,19 @@ GREEN_CONVENTIONS = {
 }
 
 
+CUBIC_GREEN_EXACT = ("G0: the closed form of G(E;0) named in methods.primary; (E*G0 - 1)/z at "
+                     "the nearest neighbour (the lattice equation at the origin); empty: no "
+                     "closed form, the value is the 1-D integral rounded with 10 guard digits "
+                     "and its error bound is an estimate")
+
+
+def _green_conventions(lattice: Table) -> dict[str, str]:
+    """GREEN_CONVENTIONS, with the meaning of the exact column of the cubic lattices."""
+    if lattice.name in ("sc", "bcc", "fcc"):
+        return {**GREEN_CONVENTIONS, "exact": CUBIC_GREEN_EXACT}
+    return GREEN_CONVENTIONS
+
+
 def _fields(lattice: Table, complex_valued: bool = False) -> list[dict[str, Any]]:
     if isinstance(lattice, Keys):
         coords = [{"name": c, "type": "string", "description": lattice.description}
@@ -434,7 +447,7 @@ def _descriptor(lattice: Table, quantity: str, meta: dict[str, Any], summary: di
         block = {**{k: block[k] for k in ("table_id", "lattice", "quantity")}, **e,
                  **{k: v for k, v in block.items() if k not in ("table_id", "lattice",
                                                                "quantity")}}
-        block["conventions"] = {**CONVENTIONS, **GREEN_CONVENTIONS}
+        block["conventions"] = {**CONVENTIONS, **_green_conventions(lattice)}
     return _package(tid, title, meta.get("version", "1"), started, ended, summary["files"],
                     _fields(lattice, bool(meta.get("complex"))),
                     list(lattice.coordinate_names), used, block)
@@ -505,7 +518,12 @@ def write_energy_table(out: Path, lattice: Lattice, quantity: str,
                 "digits": meta["digits"], "methods": meta["methods"],
                 "conventions": {**CONVENTIONS, **GREEN_CONVENTIONS,
                                 "dos": "rho(E) = -Im G(E + i0; 0, 0)/pi, per site, "
-                                       "normalised to 1 over the band"},
+                                       "normalised to 1 over the band"}
+                if lattice.name == "square" else
+                {**CONVENTIONS, **GREEN_CONVENTIONS,
+                 "exact": "the closed form of G(E;0) is named in methods.primary",
+                 "dos": "rho(E) = -Im G(E + i0; 0)/pi, per site, normalised to 1 over the "
+                        "band"},
                 "libraries": _library_versions(),
                 "cross_check": {"rows": count, "rows_checked_at_full_digits": count,
                                 "min_agreement_digits": min_agree},

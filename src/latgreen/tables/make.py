@@ -134,7 +134,7 @@ def make_table(req: TableRequest) -> dict[str, Any]:
     if energy is not None:
         meta["energy"] = energy
         meta["complex"] = provider.complex_valued
-        meta["methods"] = {
+        meta["methods"] = getattr(provider, "energy_methods", None) or {
             "primary": "recurrence: exact forms a*G00 + b*G11 + c (Gaussian-rational a, b, c) "
                        "derived from proven seeds, the lattice equation and the diagonal "
                        "recurrence; G00, G11 as python-flint balls of their elliptic-integral "
@@ -345,6 +345,28 @@ def build_catalogue(root: Path, progress: bool = True) -> list[tuple[str, dict[s
     return out
 
 
+DOS_METHODS = {
+    "square": {"primary": "closed form K(1 - E^2/16)/(2 pi^2) as a python-flint ball, "
+                          "correctly rounded",
+               "check": "-Im of the quadrature of the reduced integral for G(E+i0;0,0)/pi, at "
+                        "full digits for every row"},
+    **{lat: {"primary": f"-Im G(E+i0;0)/pi from the closed form of G(E;0) ({how}) as a "
+                        "python-flint ball, correctly rounded",
+             "check": "-Im of the 1-D integral over k3 of the square lattice's closed form, "
+                      "/pi, at full digits for every row"}
+       for lat, how in (("sc", "Joyce 1973"), ("bcc", "(1/E)(2K(u)/pi)^2"))},
+    **{lat: {"primary": "closed form (complete elliptic integral K, printed in the exact column) "
+                        "as a python-flint ball, correctly rounded; 0 outside the band" + extra,
+             "check": "-Im of the quadrature of the reduced integral for G(E+i0;0,0)/pi, at "
+                      "full digits for every row"}
+       for lat, extra in (("triangular", ""), ("honeycomb", " and at the Dirac point E = 0"))},
+    "fcc": {"primary": "-Im G(E+i0;0)/pi from the closed form of G(E;0) (prefactor identified) "
+                       "as a python-flint ball, correctly rounded",
+            "check": "-Im of the 1-D integral of Carlson's R_F (methods/fcc_green_nested.py), "
+                     "/pi, at full digits for every row"},
+}
+
+
 def make_dos_table(lattice: str, energies: str, digits: int, out: Path, force: bool = False,
                    progress: bool = True) -> dict[str, Any]:
     """The density of states on an energy grid ``A:B:COUNT`` (exact points), every value
@@ -355,6 +377,9 @@ def make_dos_table(lattice: str, energies: str, digits: int, out: Path, force: b
 
     lat = get_lattice(lattice)
     digits = check_digits(digits)
+    if lat.name not in DOS_METHODS:
+        raise InputError(f"a dos table is not available for the {lat.name} lattice; available "
+                         f"for: {', '.join(sorted(DOS_METHODS))}")
     grid = parse_energy_grid(energies, lat.name)
     out = Path(out)
     check_output_dir(out, force)
@@ -363,19 +388,13 @@ def make_dos_table(lattice: str, energies: str, digits: int, out: Path, force: b
     def rows() -> Iterator[tuple[str, str, str, str, str, int]]:
         for E in grid:
             r = dos(lat.name, E, digits)
-            yield (str(E), r.value, str(r.exact), r.error_bound, ";".join(r.methods),
+            yield (str(E), r.value, "" if r.exact is None else str(r.exact), r.error_bound,
+                   ";".join(r.methods),
                    r.agreement_digits)
             bar.advance(1)
 
-    primary = ("closed form K(1 - E^2/16)/(2 pi^2) as a python-flint ball, correctly rounded"
-               if lat.name == "square" else
-               "closed form (complete elliptic integral K, printed in the exact column) as a "
-               "python-flint ball, correctly rounded; 0 outside the band"
-               + (" and at the Dirac point E = 0" if lat.name == "honeycomb" else ""))
     meta = {"digits": digits, "energies": energies, "grid": [str(E) for E in grid],
-            "methods": {"primary": primary,
-                        "check": "-Im of the quadrature of the reduced integral for G(E+i0;0,0)"
-                                 "/pi, at full digits for every row"}}
+            "methods": DOS_METHODS[lat.name]}
     d = write_energy_table(out, lat, "dos", rows(), meta, force=force)
     bar.finish(f"{len(grid):,} rows written to {out}")
     return d

@@ -1,0 +1,555 @@
+"""sc, bcc, fcc: G(E; r), the density of states and the local DOS at an exact energy.
+
+Registered in ``green_api.BACKENDS`` and, for green tables, ``quantities.PARAMETRISED``
+(bottom of this module).  What is offered, and how each printed digit is confirmed (two
+independent methods every time, or a one-line InputError):
+
+* G(E; 0) at any admissible E (complex, real off the band, E + i0 on it; sc and fcc also
+  E = 0): the closed forms of ``methods/cubic_green_closed.py`` as certified acb balls, each
+  component correctly rounded; confirmed by the 1-D integral over k3 of the square lattice's
+  closed form (``methods/cubic_green_integral.py``; sc, bcc) or, for the fcc, by the nested
+  1-D integral of Carlson's R_F inside the band (``methods/fcc_green_nested.py``) and the
+  reduced 2-D rule outside it.
+* The nearest neighbour z: G = (E G(E; 0) - 1)/z, the lattice equation at the origin (all z
+  neighbours are equivalent), as a ball from the same closed form; same checks.
+* Other sites (coordinates up to 60): the 1-D integral rounded with 10 guard digits (the
+  error bound is an estimate, said in ``notes``), confirmed by the time-domain Bessel
+  integral (``methods/sc_green_bessel.py``; sc, coordinates up to 12, any energy) or else
+  by the reduced 2-D rule (``methods/cubic_quadrature.green_energy_quad``; off the band
+  only).  Inside the band the bcc beyond the nearest neighbour and sc sites with a
+  coordinate above 12 have one method only and are refused; so is every fcc site beyond the
+  nearest neighbour.
+* dos(E) = -Im G(E + i0; 0)/pi: the closed form's ball, confirmed by the 1-D integral (sc,
+  bcc) or the nested R_F integral (fcc); 0 outside the band and at its edges.
+* local_dos(E; r): the origin and the nearest neighbour as dos; other sc sites inside the
+  band from the 1-D integral confirmed by the Bessel integral; 0 outside the band.
+* Tables at one energy (``CubicGreen``): sc at any energy and bcc off the band, extent up to
+  12, every row checked by the Bessel integral (sc) or the 2-D rule (bcc).
+"""
+
+from __future__ import annotations
+
+import functools
+import math
+from collections.abc import Iterator, Sequence
+from fractions import Fraction
+from typing import Any
+
+import mpmath
+
+from ..energy import Energy
+from ..errors import InputError, VerificationError
+from ..exact.complex_eval import ComplexRounded, certify_complex
+from ..exact.forms import ExactForm
+from ..lattices import Site, get_lattice
+from ..lattices.cubic import Cubic
+from ..methods.cubic_green_closed import origin_ball
+from ..methods.cubic_green_integral import green_integral
+from ..methods.cubic_quadrature import green_energy_quad
+from ..methods.fcc_green_nested import green_fcc_nested
+from ..methods.sc_green_bessel import MAX_ORDER as BESSEL_MAX
+from ..methods.sc_green_bessel import green_bessel
+from ..rounding import ZERO, Rounded, agreement_digits, round_interval
+from . import PARAMETRISED, Result
+from .base import EvaluatedBatch, Provider
+from .green_api import (
+    BACKENDS,
+    GreenBackend,
+    GreenResult,
+    _certify_real,
+    _frac,
+    _modulus_bound,
+    component_agreement,
+)
+from .square_green import column_of, quad_digits_needed
+
+LOG2_10 = 3.3219280948873623
+MAX_DIGITS_CLOSED = 300  # closed form + one quadrature (about 2 s at 200 digits)
+MAX_DIGITS_QUAD = 100  # two quadratures (the 2-D rule's largest degree, 384 nodes)
+CLOSED_TEXT = {
+    "sc": "G(E;0) = (1/E)(1 - 9 xi^4)/((1 - xi)^3 (1 + 3 xi)) (2 K(k^2)/pi)^2, "
+          "k^2 = 16 xi^3/((1 - xi)^3 (1 + 3 xi)), xi^2 = (1 - sqrt(1 - 4/E^2))/(1 + "
+          "sqrt(1 - 36/E^2)) (Joyce 1973; branches as documented)",
+    "bcc": "G(E;0) = (1/E)(2 K(u)/pi)^2, u = (1 - sqrt(1 - 64/E^2))/2 (branches as "
+           "documented)",
+    "fcc": "G(E;0) = xi (1 - 3 xi)(1 + xi)/((1 - xi)^3 (1 + 3 xi)) (2 K(k^2)/pi)^2, w = E/4, "
+           "xi = (sqrt(1 + 1/w) - 1)/(1 + sqrt(1 - 3/w)), k^2 = 1/2 - (2/w)(1 + 1/w)^(-3/2) - "
+           "(1/2)(1 - 1/w)(1 + 1/w)^(-3/2) sqrt(1 - 3/w) (xi, k from Joyce & Delves 2011; "
+           "prefactor identified)",
+}
+FCC_NOTE = ("the fcc closed form's prefactor was identified by us (exact rational fit in xi, "
+            "verified to 40 digits against quadrature, the band-edge Watson value and the "
+            "walk counts); the printed digits are confirmed by the 2-D quadrature (off the "
+            "band) or the nested R_F integral (inside it)")
+
+
+class ClosedForm:
+    """The printable closed form of G(E; 0) (``GreenResult.exact``)."""
+
+    how = "derived"
+
+    def __init__(self, lattice: str) -> None:
+        self.lattice = lattice
+        self.how = {"bcc": "derived", "sc": "from the literature (Joyce 1973)",
+                    "fcc": "identified"}[lattice]
+
+    def __str__(self) -> str:
+        return CLOSED_TEXT[self.lattice]
+
+
+def parity(lattice: str, c: Site) -> int:
+    """The sublattice sign exponent: G(-E; r) = -(-1)^parity G(E; r)."""
+    return (sum(c) if lattice == "sc" else c[0]) % 2
+
+
+def zero_parts(lattice: str, E: Energy, c: Site) -> tuple[bool, bool]:
+    """(Re G = 0, Im G = 0) exactly: Im G = 0 for real E outside the band or on its edges
+    (G real there); with G(-x + i0) = -(-1)^p conj G(x + i0) and, for E = iy, -E = conj E:
+    at E = iy and at E = 0 (sc) Re G = 0 for even parity p, Im G = 0 for odd."""
+    lo, hi = get_lattice(lattice).band
+    if E.im == 0 and not lo < E.re < hi:
+        return False, True
+    if E.re == 0 and lattice != "fcc":
+        even = parity(lattice, c) == 0
+        return even, not even
+    return False, False
+
+
+def _start_bits(digits: int) -> int:
+    return -(-(math.ceil((digits + 2) * LOG2_10) + 64) // 64) * 64
+
+
+def _inside(lattice: str, E: Energy) -> bool:
+    lo, hi = get_lattice(lattice).band
+    return E.im == 0 and lo < E.re < hi
+
+
+NEIGHBOUR = {"sc": (1, 0, 0), "bcc": (1, 1, 1), "fcc": (1, 1, 0)}
+
+
+class NeighbourForm(ClosedForm):
+    """G(E; nearest neighbour) = (E G(E; 0) - 1)/z, the lattice equation at the origin."""
+
+    def __str__(self) -> str:
+        z = get_lattice(self.lattice).z
+        return f"(E*G0 - 1)/{z}, G0 = G(E;0) (see exact_basis)"
+
+
+def _ball(lattice: str, c: Site, E: Energy, bits: int) -> Any:
+    """G(E; 0), or G(E; nearest neighbour) = (E G(E; 0) - 1)/z: the lattice equation
+    (E - H) G = delta at the origin, whose z neighbours are equivalent by symmetry."""
+    g = origin_ball(lattice, E, bits)
+    if not any(c):
+        return g
+    from flint import acb, arb, ctx, fmpq
+
+    old = ctx.prec
+    try:
+        ctx.prec = bits + 30
+        Ez = acb(arb(fmpq(E.re.numerator, E.re.denominator)),
+                 arb(fmpq(E.im.numerator, E.im.denominator)))
+        return (Ez * g - 1) / get_lattice(lattice).z
+    finally:
+        ctx.prec = old
+
+
+def _check_value(lattice: str, c: Site, E: Energy, dps: int) -> tuple[str, Any]:
+    """(method, value) of the independent check at the origin or the nearest neighbour:
+    the 1-D integral (sc, bcc); for the fcc the nested R_F integral inside the band (at the
+    neighbour through the same lattice equation, with 10 more digits against its
+    cancellation) and the 2-D rule outside it."""
+    c3 = (c[0], c[1], c[2])
+    if lattice != "fcc":
+        return "integral", green_integral(lattice, E, c3, dps)
+    if not _inside(lattice, E):
+        return "quadrature", green_energy_quad(lattice, c3, E, dps)
+    q0 = green_fcc_nested(E, dps + 10)
+    if not any(c):
+        return "integral", q0
+    with mpmath.workdps(dps + 20):
+        x = mpmath.mpf(E.re.numerator) / E.re.denominator
+        return "integral", (x * q0 - 1) / 12
+
+
+def _origin(lattice: str, s: Site, E: Energy, digits: int, c: Site = (0, 0, 0)) -> GreenResult:
+    """G(E; 0) or G(E; nearest neighbour) from the closed form, confirmed by the 1-D
+    integral (sc, bcc), the nested R_F integral (fcc inside the band) or the 2-D quadrature
+    (fcc outside it)."""
+    zero = zero_parts(lattice, E, c)
+    v = certify_complex(lambda bits: _ball(lattice, c, E, bits), _start_bits(digits) + 64,
+                        digits, zero, f"G({E};{c})")
+    dps = quad_digits_needed(v, digits)
+    with mpmath.workdps(dps + 5):
+        second, q = _check_value(lattice, c, E, dps)
+        qf = (_frac(mpmath.re(q)), _frac(mpmath.im(q)))
+    agree = component_agreement(v.center, qf, zero, digits)
+    if agree < digits:
+        raise VerificationError(f"{lattice} G({E}; {c}): closed form and {second} agree to "
+                                f"only {agree} of {digits} digits")
+    form = ClosedForm(lattice) if not any(c) else NeighbourForm(lattice)
+    return GreenResult(lattice, s, c, E, digits, str(v.re), str(v.im), form,
+                       v.re.half_ulp(), v.im.half_ulp(), _modulus_bound([v.re, v.im]),
+                       ("closed-form", second), agree,
+                       notes=(FCC_NOTE,) if lattice == "fcc" else (),
+                       basis="G0: " + CLOSED_TEXT[lattice] + "; K(m): complete elliptic "
+                             "integral of parameter m (DLMF 19.2)")
+
+
+def _round_estimate(x: Any, tol: Any, digits: int, what: str) -> tuple[Rounded, Fraction]:
+    """Round x known to +-tol (an estimate) to ``digits`` digits."""
+    lo, hi = _frac(x - tol), _frac(x + tol)
+    den = lo.denominator * hi.denominator
+    r = round_interval(lo.numerator * hi.denominator, hi.numerator * lo.denominator, den,
+                       digits)
+    if r is None:
+        raise InputError(f"{what}: the value lies too close to a rounding boundary at "
+                         f"{digits} digits; ask for one digit more or less")
+    assert isinstance(r, Rounded)
+    return r, _frac(x)
+
+
+def _extra_digits(lattice: str, c: Site, E: Energy, zero: tuple[bool, bool],
+                  method: Any) -> int:
+    """log10(|G| / smaller non-zero component), from a 15-digit scouting pass of
+    ``method``: the quadratures' accuracy is relative to |G|."""
+    with mpmath.workdps(30):
+        g = method(15)
+        comps = [abs(x) for x, zz in ((mpmath.re(g), zero[0]), (mpmath.im(g), zero[1]))
+                 if not zz]
+        small = min(comps) if comps else abs(g)
+        return max(0, int(mpmath.ceil(mpmath.log10(abs(g) / small)))) if small else 30
+
+
+def integral_value(lattice: str, c: Site, E: Energy, digits: int) -> ComplexRounded:
+    """Both components of the 1-D integral rounded to ``digits`` digits of their own, with
+    10 guard digits (an estimate, not a proven bound); centres exact."""
+    c3 = (c[0], c[1], c[2])
+    zero = zero_parts(lattice, E, c)
+    extra = _extra_digits(lattice, c, E, zero,
+                          lambda d: green_integral(lattice, E, c3, d))
+    dps = digits + extra + 10
+    what = f"{lattice} G({E}; {c})"
+    with mpmath.workdps(dps + 10):
+        a = green_integral(lattice, E, c3, dps)
+        tol = mpmath.mpf(10) ** -(digits + extra + 8) * abs(a)
+        parts: list[Rounded] = []
+        centre: list[Fraction] = []
+        for x, zz in ((mpmath.re(a), zero[0]), (mpmath.im(a), zero[1])):
+            if zz:
+                if abs(x) > tol:  # pragma: no cover - a symmetry or the integral is wrong
+                    raise VerificationError(f"{what}: a component that is 0 by symmetry is "
+                                            "not")
+                parts.append(ZERO)
+                centre.append(Fraction(0))
+            else:
+                r, cx = _round_estimate(x, tol, digits, what)
+                parts.append(r)
+                centre.append(cx)
+    return ComplexRounded(parts[0], parts[1], (centre[0], centre[1]), 0)
+
+
+def quad_value(lattice: str, c: Site, E: Energy, digits: int) -> tuple[Fraction, Fraction]:
+    """The reduced 2-D rule's value, accurate enough to confirm each component to
+    ``digits`` digits of its own (exact Fractions of the mpmath result)."""
+    c3 = (c[0], c[1], c[2])
+    zero = zero_parts(lattice, E, c)
+    extra = _extra_digits(lattice, c, E, zero,
+                          lambda d: green_energy_quad(lattice, c3, E, d))
+    with mpmath.workdps(digits + extra + 20):
+        b = green_energy_quad(lattice, c3, E, digits + extra + 3)
+        return _frac(mpmath.re(b)), _frac(mpmath.im(b))
+
+
+def bessel_value(c: Site, E: Energy, digits: int) -> tuple[Fraction, Fraction]:
+    """sc: the time-domain Bessel integral's value, accurate enough to confirm each
+    component to ``digits`` digits of its own."""
+    c3 = (c[0], c[1], c[2])
+    zero = zero_parts("sc", E, c)
+    extra = _extra_digits("sc", c, E, zero, lambda d: green_bessel(E, c3, d))
+    with mpmath.workdps(digits + extra + 20):
+        b = green_bessel(E, c3, digits + extra + 3)
+        return _frac(mpmath.re(b)), _frac(mpmath.im(b))
+
+
+def _second(lattice: str, c: Site, E: Energy, digits: int
+            ) -> tuple[str, str, tuple[Fraction, Fraction]]:
+    """The independent check of the 1-D integral at a site r != 0: (method name, text,
+    value).  sc with coordinates up to 12: the time-domain Bessel integral at any energy;
+    otherwise off the band the reduced 2-D rule, and inside the band none (InputError)."""
+    if lattice == "sc" and max(c) <= BESSEL_MAX:
+        return "bessel", "the time-domain Bessel integral", bessel_value(c, E, digits)
+    if _inside(lattice, E):
+        _refuse_one_method(lattice, c, E)
+    return "quadrature", "the reduced 2-D rule", quad_value(lattice, c, E, digits)
+
+
+def _refuse_one_method(lattice: str, c: Site, E: Energy, what: str = "G(E; r)") -> None:
+    """InputError where, inside the band, the 1-D integral has no independent check: every
+    bcc site beyond the nearest neighbour, sc sites with a coordinate above 12 (fcc sites
+    beyond the neighbour are refused everywhere, see _site)."""
+    if lattice == "sc" and max(c) <= BESSEL_MAX:
+        return
+    lo, hi = get_lattice(lattice).band
+    if lattice == "fcc":
+        raise InputError(f"fcc {what} beyond the nearest neighbour (1, 1, 0) has one method "
+                         "here (a quadrature) and no independent check")
+    where = f"with a coordinate above {BESSEL_MAX} " if lattice == "sc" else ""
+    raise InputError(f"{lattice} {what} for real E inside the band ({lo}, {hi}) beyond the "
+                     f"nearest neighbour {NEIGHBOUR[lattice]} {where}has one method here (the "
+                     "1-D integral) and no independent check: ask at a complex energy or a "
+                     "real one outside the band")
+
+
+def _site(lattice: str, s: Site, c: tuple[int, int, int], E: Energy,
+          digits: int) -> GreenResult:
+    if lattice == "fcc":
+        raise InputError("fcc G(E; r) beyond the nearest neighbour (1, 1, 0) has one method "
+                         "here (the 2-D quadrature) and no independent check")
+    zero = zero_parts(lattice, E, c)
+    what = f"{lattice} G({E}; {c})"
+    if _inside(lattice, E):
+        _refuse_one_method(lattice, c, E)  # before the costly integral
+    v = integral_value(lattice, c, E, digits)
+    name, text, bf = _second(lattice, c, E, digits)
+    agree = component_agreement(v.center, bf, zero, digits)
+    if agree < digits:
+        raise VerificationError(f"{what}: 1-D integral and {text} agree to only {agree} of "
+                                f"{digits} digits")
+    return GreenResult(lattice, s, c, E, digits, str(v.re), str(v.im), None,
+                       v.re.half_ulp(), v.im.half_ulp(), _modulus_bound([v.re, v.im]),
+                       ("integral", name), agree,
+                       notes=("no closed form at r != 0 here: the value is the 1-D integral "
+                              "with 10 guard digits (error estimate, not a proof), confirmed "
+                              f"on {agree} digits by {text}",),
+                       basis="")
+
+
+def _green(lattice: str) -> Any:
+    def green(site: Sequence[object], E: Energy, digits: int) -> GreenResult:
+        lat = get_lattice(lattice)
+        s = lat.site(site)
+        c = lat.canonical(s)
+        if c[0] > 60:
+            raise InputError(f"site {c}: G at an energy is offered for coordinates up to 60")
+        closed = not any(c) or c == NEIGHBOUR[lattice]
+        cap = MAX_DIGITS_CLOSED if closed else MAX_DIGITS_QUAD
+        if digits > cap:
+            raise InputError(f"{lattice} G at {c}: at most {cap} digits (the confirming "
+                             "quadrature" + ("s grow" if not closed else " grows") +
+                             " too costly beyond)")
+        if not any(c) or c == NEIGHBOUR[lattice]:
+            return _origin(lattice, s, E, digits, c)
+        return _site(lattice, s, (c[0], c[1], c[2]), E, digits)
+
+    green.__doc__ = f"G(E; site) of the {lattice} lattice (module docstring)."
+    return green
+
+
+def _zero_result(lattice: str, quantity: str, s: Site, c: Site, E: Energy,
+                 digits: int) -> Result:
+    lo, hi = get_lattice(lattice).band
+    return Result(lattice, quantity, s, c, digits, "0", ExactForm((Fraction(0),), ()), "0",
+                  ("definition",), digits,
+                  notes=(f"outside the open band ({lo}, {hi}) G is real: the density is 0",),
+                  energy=str(E))
+
+
+def _density(lattice: str, quantity: str, s: Site, E: Energy, digits: int,
+             c: Site = (0, 0, 0)) -> Result:
+    """-Im G(E + i0; c)/pi for c = 0 or the nearest neighbour (_ball), confirmed by the
+    1-D integral."""
+    if digits > MAX_DIGITS_CLOSED:
+        raise InputError(f"the {lattice} {quantity}: at most {MAX_DIGITS_CLOSED} digits (the "
+                         "confirming quadrature grows too costly beyond)")
+    if not _inside(lattice, E):
+        return _zero_result(lattice, quantity, s, c, E, digits)
+    from flint import arb, ctx
+
+    def build(bits: int) -> Any:
+        b = _ball(lattice, c, E, bits)
+        old = ctx.prec
+        try:
+            ctx.prec = bits + 30
+            return -b.imag / arb.pi()
+        finally:
+            ctx.prec = old
+
+    r, centre = _certify_real(build, _start_bits(digits) + 64, digits,
+                              f"the {quantity} at E = {E}")
+    dps = digits + 3
+    with mpmath.workdps(dps + 5):
+        q = -mpmath.im(_check_value(lattice, c, E, dps)[1]) / mpmath.pi
+        qf = _frac(q)
+    agree = agreement_digits(centre, qf, digits)
+    if agree < digits:
+        raise VerificationError(f"{lattice} {quantity} at E = {E}: closed form and 1-D "
+                                f"integral agree to only {agree} of {digits} digits")
+    return Result(lattice, quantity, s, c, digits, str(r), None, r.half_ulp(),
+                  ("closed-form", "integral"), agree,
+                  notes=(f"-Im of {'' if not any(c) else '(E*G0 - 1)/z, G0 = '}"
+                         f"{CLOSED_TEXT[lattice]}, divided by pi",), energy=str(E))
+
+
+def _dos(lattice: str) -> Any:
+    def dos(E: Energy, digits: int) -> Result:
+        return _density(lattice, "dos", (0, 0, 0), E, digits)
+
+    return dos
+
+
+def _local_dos(lattice: str) -> Any:
+    def local_dos(site: Sequence[object], E: Energy, digits: int) -> Result:
+        lat = get_lattice(lattice)
+        s = lat.site(site)
+        c = lat.canonical(s)
+        if not any(c) or c == NEIGHBOUR[lattice]:
+            return _density(lattice, "local-dos", s, E, digits, c)
+        if not _inside(lattice, E):
+            return _zero_result(lattice, "local-dos", s, c, E, digits)
+        _refuse_one_method(lattice, c, E, "local DOS")
+        return _local_dos_site(s, c, E, digits)
+
+    return local_dos
+
+
+def _local_dos_site(s: Site, c: Site, E: Energy, digits: int) -> Result:
+    """sc inside the band: -Im G(E + i0; r)/pi from the 1-D integral (10 guard digits, an
+    estimate), confirmed by the Bessel integral."""
+    if digits > MAX_DIGITS_QUAD:
+        raise InputError(f"the sc local DOS at {c}: at most {MAX_DIGITS_QUAD} digits")
+    c3 = (c[0], c[1], c[2])
+    zero = (True, False)  # only the imaginary part matters here
+    extra = _extra_digits("sc", c, E, zero, lambda d: green_integral("sc", E, c3, d))
+    what = f"the sc local DOS at E = {E}, site {c}"
+    with mpmath.workdps(digits + extra + 30):
+        a = green_integral("sc", E, c3, digits + extra + 10)
+        x = -mpmath.im(a) / mpmath.pi
+        r, centre = _round_estimate(x, mpmath.mpf(10) ** -(digits + extra + 8) * abs(a) /
+                                    mpmath.pi, digits, what)
+        extra_b = _extra_digits("sc", c, E, zero, lambda d: green_bessel(E, c3, d))
+        b = green_bessel(E, c3, digits + extra_b + 3)
+        qf = _frac(-mpmath.im(b) / mpmath.pi)
+    agree = agreement_digits(centre, qf, digits)
+    if agree < digits:
+        raise VerificationError(f"{what}: 1-D integral and Bessel integral agree to only "
+                                f"{agree} of {digits} digits")
+    return Result("sc", "local-dos", s, c, digits, str(r), None, r.half_ulp(),
+                  ("integral", "bessel"), agree,
+                  notes=("the value is the 1-D integral with 10 guard digits (error estimate, "
+                         "not a proof), confirmed by the time-domain Bessel integral",),
+                  energy=str(E))
+
+
+for _name in ("sc", "bcc", "fcc"):
+    BACKENDS[_name] = GreenBackend(_green(_name), _dos(_name), _local_dos(_name))
+
+
+# ---------------------------------------------------------------- tables at one energy
+
+class TableForm:
+    """A table cell's exact form (no commas: the CSV is written without quoting): ``G0``
+    (the closed form named in the descriptor), ``(E*G0 - 1)/z`` or empty."""
+
+    def __init__(self, text: str, how: str) -> None:
+        self.text, self.how = text, how
+
+    def __str__(self) -> str:
+        return self.text
+
+
+class CubicGreen(Provider):
+    """sc / bcc x green bound to one energy (bcc: complex E or real E outside the band; sc:
+    any).  Batches are the columns (l, m) of the canonical region; the origin and the nearest
+    neighbour come from the closed form (certified balls), every other site from the 1-D
+    integral with 10 guard digits; every row is checked at full digits by the time-domain
+    Bessel integral (sc, extent up to 12) or the reduced 2-D rule (bcc)."""
+
+    complex_valued = True
+    exact_limit = 60
+    table_limit = BESSEL_MAX
+    max_digits = MAX_DIGITS_QUAD
+    parallel_min_sites = 20
+    primary_text = ("closed forms of G(E;0) (and (E G0 - 1)/z at the nearest neighbour) as "
+                    "certified python-flint balls; other sites: the 1-D integral over k3 of "
+                    "the square lattice's closed form, rounded with 10 guard digits (error "
+                    "bound an estimate)")
+    check_text = "the reduced 2-D polar Gauss-Legendre rule"
+    check_name = "quadrature"
+    energy: Energy
+
+    def __init__(self, lattice: str, energy: Energy) -> None:
+        self.lattice = get_lattice(lattice)
+        self.quantity = "green"
+        self.energy = energy
+        if lattice == "sc":  # table_limit <= BESSEL_MAX: every sc row has the Bessel check
+            self.check_text = "the time-domain Bessel integral (methods/sc_green_bessel.py)"
+            self.check_name = "bessel"
+        self.energy_methods = {
+            "primary": self.primary_text + f"; G0 = {CLOSED_TEXT[lattice]}",
+            "check": self.check_text + " at full digits (of each component) for every row"}
+        if lattice == "bcc" and _inside(lattice, energy):
+            lo, hi = self.lattice.band
+            raise InputError(f"a bcc green table needs a complex energy or a real one outside "
+                             f"the band ({lo}, {hi}): inside it only the origin and the "
+                             "nearest neighbour have two methods here")
+
+    def _columns(self, extent: int) -> Iterator[list[Site]]:
+        lat = self.lattice
+        assert isinstance(lat, Cubic)
+        for l in range(extent + 1):
+            for m in range(l + 1):
+                col = lat.column(l, m)
+                if col:
+                    yield col
+
+    def batch_sites(self, extent: int) -> Iterator[list[Site]]:
+        return self._columns(extent)
+
+    def value(self, c: Site, digits: int) -> ComplexRounded:
+        name, E = self.lattice.name, self.energy
+        if not any(c) or c == NEIGHBOUR[name]:
+            return certify_complex(lambda bits: _ball(name, c, E, bits),
+                                   _start_bits(digits) + 64, digits, zero_parts(name, E, c),
+                                   f"G({E};{c})")
+        return integral_value(name, c, E, digits)
+
+    def form(self, c: Site) -> Any:
+        name = self.lattice.name
+        how = ClosedForm(name).how
+        if not any(c):
+            return TableForm("G0", how)
+        if c == NEIGHBOUR[name]:
+            return TableForm(f"(E*G0 - 1)/{self.lattice.z}", how)
+        return TableForm("", "")
+
+    def evaluated_batches(self, extent: int, digits: int, with_exact: bool, start: int = 0,
+                          stop: int | None = None) -> Iterator[tuple[int, EvaluatedBatch]]:
+        for bi, sites in enumerate(self._columns(extent)):
+            if bi < start:
+                continue
+            if stop is not None and bi >= stop:
+                return
+            vals = [self.value(c, digits) for c in sites]
+            yield bi, EvaluatedBatch(sites, column_of(vals, 0),
+                                     [self.form(c) for c in sites] if with_exact else None,
+                                     imag=column_of(vals, 1))
+
+    def exact_form(self, site: Site) -> Any:
+        return self.form(site)
+
+    def row_method(self, c: Site) -> str:
+        closed = not any(c) or c == NEIGHBOUR[self.lattice.name]
+        return f"{'closed-form' if closed else 'integral'};{self.check_name}"
+
+    def quad_sites(self, sites: list[Site], digits: int) -> list:
+        return [_second(self.lattice.name, c, self.energy, digits)[2] for c in sites]
+
+    def memory_estimate(self, extent: int) -> int:
+        return 100_000_000
+
+    def output_estimate(self, extent: int, digits: int, with_exact: bool) -> int:
+        return self.lattice.region_size(extent) * (2 * (2 * digits + 80) + 400)
+
+
+for _name in ("sc", "bcc"):
+    PARAMETRISED[(_name, "green")] = functools.partial(CubicGreen, _name)
