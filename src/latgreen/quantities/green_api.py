@@ -301,11 +301,9 @@ def local_dos(lattice: str, site: Sequence[object], energy: object, digits: int 
                                           get_lattice(lattice).name, "local-dos"), digits)
 
 
-from . import cubic_green  # noqa: E402, F401 - registers the sc and bcc backends
-
-__all__ = ["BACKENDS", "ZERO", "GreenBackend", "GreenResult", "dos", "green", "local_dos"]
-
-
+from . import cubic_green  # noqa: E402, F401 - registers the sc, bcc and fcc backends
 from .trihex_green_api import TRIHEX_BACKENDS  # noqa: E402 - uses the above
 
 BACKENDS.update(TRIHEX_BACKENDS)
+
+__all__ = ["BACKENDS", "ZERO", "GreenBackend", "GreenResult", "dos", "green", "local_dos"]
