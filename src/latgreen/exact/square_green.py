@@ -228,16 +228,31 @@ def _acb_cq(x: Cq) -> acb:
                arb(fmpq(x[1].numerator, x[1].denominator)))
 
 
-def ball(form: GreenForm, E: Energy, bits: int) -> acb:
-    """a G00 + b G11 + c as a ball at ``bits`` of working precision."""
-    g00, g11 = basis_balls(E, bits)
+def combine(form: GreenForm, b0: acb, b1: acb, bits: int) -> acb:
+    """a B0 + b B1 + c for a form's coefficients (a, b, c) and its basis balls, at ``bits``
+    of working precision (every lattice's two-function forms)."""
     a, b, c = form.coeffs
     old = ctx.prec
     try:
         ctx.prec = bits
-        return _acb_cq(a) * g00 + _acb_cq(b) * g11 + _acb_cq(c)
+        return _acb_cq(a) * b0 + _acb_cq(b) * b1 + _acb_cq(c)
     finally:
         ctx.prec = old
+
+
+def neg_imag_over_pi(x: acb, bits: int) -> arb:
+    """-Im(x)/pi at ``bits`` (a local density of states from a ball of G)."""
+    old = ctx.prec
+    try:
+        ctx.prec = bits
+        return -x.imag / arb.pi()
+    finally:
+        ctx.prec = old
+
+
+def ball(form: GreenForm, E: Energy, bits: int) -> acb:
+    """a G00 + b G11 + c as a ball at ``bits`` of working precision."""
+    return combine(form, *basis_balls(E, bits), bits)
 
 
 def start_bits(form: GreenForm, digits: int) -> int:

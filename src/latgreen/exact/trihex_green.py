@@ -70,7 +70,7 @@ from dataclasses import dataclass
 from fractions import Fraction
 from typing import Any
 
-from flint import acb, arb, ctx, fmpq
+from flint import acb, arb, fmpq
 from gmpy2 import mpq
 
 from ..energy import Energy
@@ -79,7 +79,7 @@ from ..lattices.honeycomb import HONEYCOMB, column_sites
 from ..lattices.triangular import canonical_pair
 from ..methods.trihex_green_closed import basis_balls, hc_w
 from .complex_eval import ComplexRounded, certify_complex
-from .square_green import GreenForm, start_bits
+from .square_green import GreenForm, combine, start_bits
 
 NAMES = {"triangular": ("G00", "G20"), "honeycomb": ("T00", "T20")}
 DIRAC_NAMES = ("sqrt(3)/pi", "0")  # the honeycomb at E = 0: forms p*sqrt(3)/pi + q
@@ -279,14 +279,7 @@ def _acb_cq(x: tuple[Fraction, Fraction]) -> acb:
 
 def ball(form: GreenForm, lattice: str, E: Energy, bits: int) -> acb:
     """a B0 + b B2 + c as a ball at ``bits`` of working precision (B0, B2 the basis)."""
-    g0, g2 = basis_balls(lattice, E, bits)
-    a, b, c = form.coeffs
-    old = ctx.prec
-    try:
-        ctx.prec = bits
-        return _acb_cq(a) * g0 + _acb_cq(b) * g2 + _acb_cq(c)
-    finally:
-        ctx.prec = old
+    return combine(form, *basis_balls(lattice, E, bits), bits)
 
 
 def evaluate(form: GreenForm, lattice: str, E: Energy, site: Site, digits: int

@@ -72,15 +72,16 @@ def degree_for(digits: int, extent: int) -> int:
 CHUNK_NODES = 40_000  # nodes held at once (memory stays bounded at any degree)
 
 
-def _polar_nodes_mp(lattice: str, degree: int, bits: int) -> Iterator[tuple[list, list, list]]:
-    """(k1, k2, weight) lists in mpfr, weight including r, the polar Jacobian and the
-    lattice's prefactor, in chunks of about CHUNK_NODES nodes."""
+def _polar_layout(lattice: str, degree: int, bits: int) -> tuple[list, list, Any]:
+    """The Gauss-Legendre nodes/weights mapped to [0, 1] (mpfr), the polar pieces
+    (theta0, theta1, kind) of the reduced domain about the corner k = 0 and the lattice's
+    prefactor: sc/bcc two triangles split at pi/4 (side pi resp. pi/2, radial limit by cos
+    resp. sin), fcc one triangle k1 + k3 <= pi (module docstring)."""
     raw = _gl_nodes(degree, bits + 20)
     mpfr = gmpy2.mpfr
     std = [((gmpy2.mul_2exp(mpfr(xm), xe) + 1) / 2, gmpy2.mul_2exp(mpfr(wm), we) / 2)
            for xm, xe, wm, we in raw]
     pi = gmpy2.const_pi()
-    k1s, k2s, ws = [], [], []
     pieces: list[tuple[Any, Any, tuple[str, Any] | None]]
     if lattice == "fcc":
         pieces = [(mpfr(0), pi / 2, None)]
@@ -89,6 +90,15 @@ def _polar_nodes_mp(lattice: str, degree: int, bits: int) -> Iterator[tuple[list
         side = pi if lattice == "sc" else pi / 2
         pieces = [(mpfr(0), pi / 4, ("c", side)), (pi / 4, pi / 2, ("s", side))]
         factor = (1 if lattice == "sc" else 4) / pi**2
+    return std, pieces, factor
+
+
+def _polar_nodes_mp(lattice: str, degree: int, bits: int) -> Iterator[tuple[list, list, list]]:
+    """(k1, k2, weight) lists in mpfr, weight including r, the polar Jacobian and the
+    lattice's prefactor, in chunks of about CHUNK_NODES nodes."""
+    std, pieces, factor = _polar_layout(lattice, degree, bits)
+    pi = gmpy2.const_pi()
+    k1s, k2s, ws = [], [], []
     for t0, t1, kind in pieces:
         dt = t1 - t0
         for xt, wt in std:
@@ -306,19 +316,8 @@ def _energy_rule(lattice: str, E: Any, dE: Any, site: Site, degree: int, bits: i
     """Product Gauss-Legendre rule in polar coordinates about the corner k = 0 (the same
     pieces as at the band edge; off the band the integrand is analytic, the polar rule is
     kept so that E close to z is no worse than E = z)."""
-    raw = _gl_nodes(degree, bits + 20)
-    mpfr = gmpy2.mpfr
-    std = [((gmpy2.mul_2exp(mpfr(xm), xe) + 1) / 2, gmpy2.mul_2exp(mpfr(wm), we) / 2)
-           for xm, xe, wm, we in raw]
+    std, pieces, factor = _polar_layout(lattice, degree, bits)
     pi = gmpy2.const_pi()
-    pieces: list[tuple[Any, Any, tuple[str, Any] | None]]
-    if lattice == "fcc":
-        pieces = [(mpfr(0), pi / 2, None)]
-        factor = 2 / pi**2
-    else:
-        side = pi if lattice == "sc" else pi / 2
-        pieces = [(mpfr(0), pi / 4, ("c", side)), (pi / 4, pi / 2, ("s", side))]
-        factor = (1 if lattice == "sc" else 4) / pi**2
     total: Any = 0
     for t0, t1, kind in pieces:
         dt = t1 - t0

@@ -227,16 +227,8 @@ def _square_local_dos(site: Sequence[object], E: Energy, digits: int) -> Result:
     s = lat.site(site)
     c = lat.canonical(s)
     form = exact_green.green_form(E, c[0], c[1])
-    from flint import arb, ctx
-
     def build(bits: int) -> Any:
-        b = exact_green.ball(form, E, bits)
-        old = ctx.prec
-        try:
-            ctx.prec = bits
-            return -b.imag / arb.pi()
-        finally:
-            ctx.prec = old
+        return exact_green.neg_imag_over_pi(exact_green.ball(form, E, bits), bits)
 
     return _dos_result(E, s, c, digits, "local-dos", build,
                        exact_green.start_bits(form, digits), None)

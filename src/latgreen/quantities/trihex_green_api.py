@@ -19,7 +19,7 @@ from fractions import Fraction
 from typing import Any
 
 import mpmath
-from flint import arb, ctx
+from flint import ctx
 
 from ..energy import Energy
 from ..errors import InputError, VerificationError
@@ -168,15 +168,9 @@ def _local_dos(lattice: str, site: Sequence[object], E: Energy, digits: int) -> 
     form = exact_green.green_form(lattice, E, c)
 
     def build(bits: int) -> Any:
-        b = exact_green.ball(form, lattice, E, bits)
-        old = ctx.prec
-        try:
-            ctx.prec = bits
-            return -b.imag / arb.pi()
-        finally:
-            ctx.prec = old
+        return neg_imag_over_pi(exact_green.ball(form, lattice, E, bits), bits)
 
-    from ..exact.square_green import start_bits
+    from ..exact.square_green import neg_imag_over_pi, start_bits
 
     r, centre = _certify_real(build, start_bits(form, digits), digits,
                               f"the local-dos at E = {E}, site {c}")
