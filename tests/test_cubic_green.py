@@ -427,6 +427,11 @@ def test_cli_dos_table(tmp_path):
     text = (out / "sc-dos.csv").read_text() if (out / "sc-dos.csv").exists() else \
         next(out.glob("*.csv")).read_text()
     assert "0.142672982723019" in text  # rho_sc(0) = I_fcc/pi (see the band-centre test)
+    import json
+
+    desc = json.loads((out / "datapackage.json").read_text())
+    exact = next(f for f in desc["resources"][0]["schema"]["fields"] if f["name"] == "exact")
+    assert exact["description"].startswith("empty")  # the sc's dos has no exact column
 
 
 def test_green_table_at_an_energy(tmp_path):

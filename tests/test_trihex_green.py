@@ -483,3 +483,8 @@ def test_cli_tables(tmp_path):
     assert p.returncode == 0, p.stderr
     rows = (out / "values.csv").read_text().splitlines()
     assert len(rows) == 4 and rows[2].startswith("0,0,")
+    # the descriptor describes this lattice's exact column, not the square's closed form
+    desc = json.loads((out / "datapackage.json").read_text())
+    fields = desc["resources"][0]["schema"]["fields"]
+    exact = next(f for f in fields if f["name"] == "exact")["description"]
+    assert "rho_tri(E^2 - 3)" in exact and "16" not in exact

@@ -471,6 +471,24 @@ DOS_FIELDS = [
 ]
 
 
+# what the exact column of a dos table holds, per lattice (the square's text is DOS_FIELDS')
+DOS_EXACT = {
+    **{lat: "closed form of rho(E) in sympy syntax (complete elliptic integral elliptic_k of "
+            "parameter m; the honeycomb's is |E| rho_tri(E^2 - 3) written out), 0 outside the "
+            "band" for lat in ("triangular", "honeycomb")},
+    **{lat: "empty: rho(E) = -Im G(E + i0; 0)/pi of the closed form of G(E; 0) named in "
+            "methods.primary (the value is 0 outside the band)" for lat in ("sc", "bcc", "fcc")},
+}
+
+
+def dos_fields(lattice: str) -> list[dict[str, str]]:
+    """DOS_FIELDS with the exact column described for ``lattice``."""
+    if lattice not in DOS_EXACT:
+        return DOS_FIELDS
+    return [dict(f, description=DOS_EXACT[lattice]) if f["name"] == "exact" else f
+            for f in DOS_FIELDS]
+
+
 def write_energy_table(out: Path, lattice: Lattice, quantity: str,
                        rows: Iterable[tuple[str, str, str, str, str, int]],
                        meta: dict[str, Any], force: bool = False) -> dict[str, Any]:
@@ -509,7 +527,7 @@ def write_energy_table(out: Path, lattice: Lattice, quantity: str,
             "1", started, ended,
             {"values.csv": (csv_sink.h.hexdigest(), csv_sink.n),
              "values.json": (json_sink.h.hexdigest(), json_sink.n)},
-            DOS_FIELDS, ["energy"],
+            dos_fields(lattice.name), ["energy"],
             {"lattice": lattice.name, "quantity": quantity, "energies": meta["energies"],
              "digits": meta["digits"]},
             {
@@ -521,7 +539,7 @@ def write_energy_table(out: Path, lattice: Lattice, quantity: str,
                                        "normalised to 1 over the band"}
                 if lattice.name == "square" else
                 {**CONVENTIONS, **GREEN_CONVENTIONS,
-                 "exact": "the closed form of G(E;0) is named in methods.primary",
+                 "exact": DOS_EXACT.get(lattice.name, ""),
                  "dos": "rho(E) = -Im G(E + i0; 0)/pi, per site, normalised to 1 over the "
                         "band"},
                 "libraries": _library_versions(),
