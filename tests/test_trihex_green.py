@@ -477,6 +477,9 @@ def test_cli_tables(tmp_path):
     assert rows[2].split(",")[4] == "7/6*G00 - 1/6"
     desc = json.loads((out / "datapackage.json").read_text())
     assert desc["latgreen"]["energy"] == "7"
+    # the descriptor names this lattice's basis (G20), not the square's (G11)
+    conv = desc["latgreen"]["conventions"]["exact"]
+    assert "G20" in conv and "G11" not in conv
     out = tmp_path / "dos"
     p = run_cli("table", "honeycomb", "--quantity", "dos", "--energies", "-0.5:0.5:3",
                 "--digits", "15", "--out", str(out), "--quiet")

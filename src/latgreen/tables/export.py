@@ -238,10 +238,23 @@ CUBIC_GREEN_EXACT = ("G0: the closed form of G(E;0) named in methods.primary; (E
                      "and its error bound is an estimate")
 
 
+TRIHEX_GREEN_EXACT = {
+    "triangular": "a*G00 + b*G20 + c with G00 = G(E;0,0), G20 = G(E;2,0) = "
+                  "-(E**2 - 4*E - 18)/6*G00 - (E - 6)*(E + 2)*(E + 3)/3*diff(G00, E) - (E + 2)/6 "
+                  "and Gaussian-rational a, b, c (I is the imaginary unit)",
+    "honeycomb": "a*T00 + b*T20 + c with T00, T20 the triangular lattice's G00, G20 at "
+                 "w = E**2 - 3 (w + i0*sign(E) on the band) and Gaussian-rational a, b, c (I is "
+                 "the imaginary unit); at the Dirac point E = 0 the limit p*sqrt(3)/pi + q with "
+                 "rational p, q (0 on the A sites)",
+}
+
+
 def _green_conventions(lattice: Table) -> dict[str, str]:
-    """GREEN_CONVENTIONS, with the meaning of the exact column of the cubic lattices."""
+    """GREEN_CONVENTIONS, with the meaning of the exact column of the lattice."""
     if lattice.name in ("sc", "bcc", "fcc"):
         return {**GREEN_CONVENTIONS, "exact": CUBIC_GREEN_EXACT}
+    if lattice.name in TRIHEX_GREEN_EXACT:
+        return {**GREEN_CONVENTIONS, "exact": TRIHEX_GREEN_EXACT[lattice.name]}
     return GREEN_CONVENTIONS
 
 
@@ -259,9 +272,12 @@ def _fields(lattice: Table, complex_valued: bool = False) -> list[dict[str, Any]
             {"name": "value_re", "type": "string", "description": comp.format("real")},
             {"name": "value_im", "type": "string", "description": comp.format("imaginary")},
             {"name": "exact", "type": "string",
-             "description": "exact form a*G00 + b*G11 + c in sympy syntax"},
+             "description": "exact form in sympy syntax (latgreen.conventions.exact says what "
+                            "its names stand for)"},
             {"name": "exact_how", "type": "string",
-             "description": "derived (proven recurrence)"},
+             "description": "how the exact form was obtained: derived (proven recurrence), "
+                            "identified (fitted, verified to stated digits) or the literature "
+                            "source of a closed form; empty where there is no exact form"},
             {"name": "error_bound_re", "type": "string",
              "description": "bound on |value_re - Re G| (half a unit in its last place)"},
             {"name": "error_bound_im", "type": "string",
