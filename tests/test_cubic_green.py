@@ -417,6 +417,11 @@ def test_cli_green_dos_and_errors():
     assert r.returncode == 0 and r.stdout.strip().startswith("0.05526398330491892848")
     r = run_cli("green", "bcc", "2", "0", "0", "--energy", "3")
     assert r.returncode == 2 and r.stderr.count("\n") == 1 and "Traceback" not in r.stderr
+    # --exact where no exact form exists: one line, exit 2 (not "None")
+    r = run_cli("green", "sc", "1", "1", "0", "--energy", "10", "--digits", "15", "--exact")
+    assert r.returncode == 2 and "no exact form" in r.stderr and r.stdout == ""
+    r = run_cli("green", "sc", "1", "0", "0", "--energy", "7", "--digits", "15", "--exact")
+    assert r.returncode == 0 and r.stdout.startswith("(E*G0 - 1)/6")
 
 
 def test_cli_dos_table(tmp_path):

@@ -85,7 +85,8 @@ def _parser() -> argparse.ArgumentParser:
                     help=f"significant digits of each component, 1..{MAX_DIGITS} (default 50)")
     g = gr.add_mutually_exclusive_group()
     g.add_argument("--exact", action="store_true",
-                   help="print the exact form a*G00 + b*G11 + c instead")
+                   help="print the exact form instead (--json's exact_basis says what its "
+                        "names stand for)")
     g.add_argument("--json", action="store_true", help="print one JSON object")
 
     d = sub.add_parser("dos", help="density of states per site at a real energy")
@@ -202,6 +203,10 @@ def _cmd_green(a: argparse.Namespace) -> int:
     if a.json:
         print(json.dumps(res.to_json()))
     elif a.exact:
+        if res.exact is None:
+            raise InputError(f"no exact form is known for {res.lattice} G at site "
+                             f"{res.canonical_site}, E = {res.energy} (the value comes from "
+                             "quadrature; see --json)")
         print(res.exact)
     else:
         print(res.value)
