@@ -80,3 +80,46 @@ def test_forged_value_with_forged_hashes_is_caught_by_recomputation(table, tmp_p
 def test_not_a_table_is_an_input_error(tmp_path):
     p = run_cli("verify", str(tmp_path))
     assert p.returncode == 2 and "no datapackage.json" in p.stderr
+
+
+def _forge_row(d, line, col):
+    """Change the last digit of column ``col`` on CSV line ``line`` (and the JSON row), then
+    forge the hashes; returns the site/energy text of the row."""
+    lines = (d / "values.csv").read_text().splitlines(keepends=True)
+    parts = lines[line - 1].rstrip("\n").split(",")
+    parts[col] = parts[col][:-1] + ("1" if parts[col][-1] != "1" else "2")
+    lines[line - 1] = ",".join(parts) + "\n"
+    (d / "values.csv").write_text("".join(lines))
+    js = json.loads((d / "values.json").read_text())
+    js["rows"][line - 2][col] = type(js["rows"][line - 2][col])(parts[col])
+    (d / "values.json").write_text(json.dumps(js))
+    _rehash(d)
+    return parts
+
+
+def test_tables_at_an_energy_and_energy_grids_are_recomputed(tmp_path):
+    """verify recomputes a green table at its energy (complex rows: both components and the
+    exact form) and a dos table over its energy grid; a forged imaginary part and a forged
+    density, with forged hashes, are named by line."""
+    g = tmp_path / "g"
+    p = run_cli("table", "triangular", "--quantity", "green", "--energy", "1.5+0.5j",
+                "--extent", "2", "--digits", "15", "--out", str(g), "--quiet")
+    assert p.returncode == 0, p.stderr
+    p = run_cli("verify", str(g), "--all", "--json")
+    d = json.loads(p.stdout)
+    assert p.returncode == 0 and d["ok"] and d["rows_recomputed"] == d["rows"] == 6
+    parts = _forge_row(g, 4, 3)  # line 4: site (1, 1); column 3: value_im
+    assert parts[:2] == ["1", "1"]
+    p = run_cli("verify", str(g), "--all")
+    assert p.returncode == 1 and "values.csv line 4: site (1, 1) has" in p.stdout
+
+    t = tmp_path / "dos"
+    p = run_cli("table", "honeycomb", "--quantity", "dos", "--energies", "0.5:2.5:3",
+                "--digits", "15", "--out", str(t), "--quiet")
+    assert p.returncode == 0, p.stderr
+    p = run_cli("verify", str(t), "--all", "--json")
+    d = json.loads(p.stdout)
+    assert p.returncode == 0 and d["ok"] and d["rows_recomputed"] == 3
+    _forge_row(t, 3, 1)  # E = 1.5
+    p = run_cli("verify", str(t), "--all")
+    assert p.returncode == 1 and "values.csv line 3: E = 1.5 has" in p.stdout

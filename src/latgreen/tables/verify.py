@@ -105,45 +105,116 @@ def verify_table(path: Path, all_rows: bool = False, sample: int = 200) -> Verif
             kinds = sorted({e for row in report.flatten(["type"]) for e in row})
             rep.problems.append(f"Frictionless validation failed: {', '.join(kinds)}")
     # 4. recompute rows
-    coords = len(header) - 6
+    if header and header[0] == "energy":
+        _recompute_grid(rep, meta, csv_rows, all_rows, sample)
+    else:
+        _recompute_sites(rep, meta, header, csv_rows, all_rows, sample)
+    return rep
+
+
+def _pick(csv_rows: list[tuple[int, list[str]]], all_rows: bool, sample: int
+          ) -> list[tuple[int, list[str]]]:
+    """All rows, or about ``sample`` of them spread over the file plus the last one."""
+    if all_rows or not csv_rows:
+        return csv_rows
+    step = max(1, len(csv_rows) // sample)
+    picked = csv_rows[::step]
+    return picked if picked[-1] is csv_rows[-1] else [*picked, csv_rows[-1]]
+
+
+def _recompute_sites(rep: VerifyReport, meta: dict[str, Any], header: list[str],
+                     csv_rows: list[tuple[int, list[str]]], all_rows: bool,
+                     sample: int) -> None:
+    """Rows over sites (real: value, exact, exact_how, error_bound, methods, agreement after
+    the coordinates; complex: value_re, value_im, exact, ...): the values and exact forms
+    recomputed by the provider (bound to the table's energy where it has one)."""
+    cplx = "value_re" in header
+    tail = 8 if cplx else 6
+    coords = len(header) - tail
+    nval = 2 if cplx else 1
     try:
-        provider = get_provider(meta["lattice"], meta["quantity"])
+        provider = get_provider(meta["lattice"], meta["quantity"], meta.get("energy"))
         extent, digits = int(meta["extent"]), int(meta["digits"])
     except (KeyError, ValueError, InputError) as e:
         rep.problems.append(f"cannot recompute: {e}")
-        return rep
-    with_exact = any(row[coords + 1] for _, row in csv_rows)
-    if all_rows:
-        wanted = {tuple(int(x) for x in row[:coords]) for _, row in csv_rows}
+        return
+    with_exact = any(row[coords + nval] for _, row in csv_rows if len(row) == len(header))
+    picked = _pick(csv_rows, all_rows, sample)
+    wanted: set[tuple[int, ...]] = set()
+    for line, row in picked:
+        try:
+            wanted.add(tuple(int(x) for x in row[:coords]))
+        except ValueError:
+            rep.problems.append(f"values.csv line {line}: malformed site {row[:coords]}")
+    fresh: dict[tuple[int, ...], tuple[tuple[str, ...], str]] = {}
+    if cplx:
+        # the values and forms alone (the independent check is what the table itself ran)
+        for _, eb in provider.evaluated_batches(extent, digits, with_exact):
+            if eb.texts is not None:
+                exacts = eb.texts[0]
+            elif eb.forms is not None:
+                exacts = ["" if f is None else str(f) for f in eb.forms]
+            else:
+                exacts = [""] * len(eb.sites)
+            assert eb.imag is not None
+            for k, st in enumerate(eb.sites):
+                if st in wanted:
+                    fresh[st] = ((eb.rounded.values[k], eb.imag.values[k]), exacts[k])
     else:
-        step = max(1, len(csv_rows) // sample)
-        wanted = {tuple(int(x) for x in row[:coords]) for _, row in csv_rows[::step]}
-        if csv_rows:
-            wanted.add(tuple(int(x) for x in csv_rows[-1][1][:coords]))
-    fresh: dict[tuple[int, ...], tuple[str, str]] = {}
-    for blk in table_rows(provider, extent, digits, "fast", with_exact):
-        for k, s in enumerate(blk.sites):
-            if s in wanted:
-                fresh[s] = (blk.values[k], blk.exacts[k])
-    for line, row in csv_rows:
+        for blk in table_rows(provider, extent, digits, "fast", with_exact):
+            for k, st in enumerate(blk.sites):
+                if st in wanted:
+                    fresh[st] = ((blk.values[k],), blk.exacts[k])
+    for line, row in picked:
         try:
             site = tuple(int(x) for x in row[:coords])
         except ValueError:
-            rep.problems.append(f"values.csv line {line}: malformed site {row[:coords]}")
-            continue
-        if site not in wanted:
             continue
         rep.checked_rows += 1
         got = fresh.get(site)
+        have = tuple(row[coords:coords + nval])
         if got is None:
             rep.problems.append(f"values.csv line {line}: site {site} is not in the region")
-        elif row[coords] != got[0]:
-            rep.problems.append(f"values.csv line {line}: site {site} has {row[coords]}, "
-                                f"recomputed {got[0]}")
-        elif with_exact and row[coords + 1] != got[1]:
+        elif have != got[0]:
+            rep.problems.append(f"values.csv line {line}: site {site} has {', '.join(have)}, "
+                                f"recomputed {', '.join(got[0])}")
+        elif with_exact and row[coords + nval] != got[1]:
             rep.problems.append(f"values.csv line {line}: site {site} has exact form "
-                                f"{row[coords + 1]}, recomputed {got[1]}")
-    return rep
+                                f"{row[coords + nval]}, recomputed {got[1]}")
+
+
+def _recompute_grid(rep: VerifyReport, meta: dict[str, Any],
+                    csv_rows: list[tuple[int, list[str]]], all_rows: bool,
+                    sample: int) -> None:
+    """Rows over an energy grid (energy, value, exact, error_bound, methods, agreement): each
+    value recomputed by the single-value API (closed form confirmed by its check)."""
+    from ..quantities import dos
+
+    try:
+        lattice, quantity, digits = meta["lattice"], meta["quantity"], int(meta["digits"])
+    except (KeyError, ValueError) as e:
+        rep.problems.append(f"cannot recompute: {e}")
+        return
+    if quantity != "dos":
+        rep.problems.append(f"cannot recompute: an energy grid of {quantity!r}")
+        return
+    for line, row in _pick(csv_rows, all_rows, sample):
+        if len(row) < 3:
+            rep.problems.append(f"values.csv line {line}: malformed row")
+            continue
+        try:
+            r = dos(lattice, row[0], digits)
+        except InputError as e:
+            rep.problems.append(f"values.csv line {line}: energy {row[0]!r}: {e}")
+            continue
+        rep.checked_rows += 1
+        exact = "" if r.exact is None else str(r.exact)
+        if row[1] != r.value:
+            rep.problems.append(f"values.csv line {line}: E = {row[0]} has {row[1]}, "
+                                f"recomputed {r.value}")
+        elif row[2] != exact:
+            rep.problems.append(f"values.csv line {line}: E = {row[0]} has exact form "
+                                f"{row[2]}, recomputed {exact}")
 
 
 def report_json(rep: VerifyReport) -> dict[str, Any]:
