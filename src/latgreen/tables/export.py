@@ -258,6 +258,16 @@ def _green_conventions(lattice: Table) -> dict[str, str]:
     return GREEN_CONVENTIONS
 
 
+# fields shared by the site tables and the energy-grid tables
+_ERROR_FIELD = {"name": "error_bound", "type": "string",
+                "description": "bound on |value - true value| (half a unit in the last place)"}
+_METHODS_FIELD = {"name": "methods", "type": "string",
+                  "description": "independent methods that confirmed the value, separated by "
+                                 "';'"}
+_AGREEMENT_FIELD = {"name": "agreement_digits", "type": "integer",
+                    "description": "significant digits on which those methods agree"}
+
+
 def _fields(lattice: Table, complex_valued: bool = False) -> list[dict[str, Any]]:
     if isinstance(lattice, Keys):
         coords = [{"name": c, "type": "string", "description": lattice.description}
@@ -282,11 +292,9 @@ def _fields(lattice: Table, complex_valued: bool = False) -> list[dict[str, Any]
              "description": "bound on |value_re - Re G| (half a unit in its last place)"},
             {"name": "error_bound_im", "type": "string",
              "description": "bound on |value_im - Im G| (half a unit in its last place)"},
-            {"name": "methods", "type": "string",
-             "description": "independent methods that confirmed the value, separated by ';'"},
-            {"name": "agreement_digits", "type": "integer",
-             "description": "significant digits on which those methods agree (each "
-                            "component)"},
+            _METHODS_FIELD,
+            dict(_AGREEMENT_FIELD, description=_AGREEMENT_FIELD["description"]
+                 + " (each component)"),
         ]
     return coords + [
         {"name": "value", "type": "string",
@@ -296,12 +304,7 @@ def _fields(lattice: Table, complex_valued: bool = False) -> list[dict[str, Any]
          "description": "exact form in sympy syntax (empty where none is known)"},
         {"name": "exact_how", "type": "string",
          "description": "derived (proven recurrence) or identified (integer-relation search)"},
-        {"name": "error_bound", "type": "string",
-         "description": "bound on |value - true value| (half a unit in the last place)"},
-        {"name": "methods", "type": "string",
-         "description": "independent methods that confirmed the value, separated by ';'"},
-        {"name": "agreement_digits", "type": "integer",
-         "description": "significant digits on which those methods agree"},
+        _ERROR_FIELD, _METHODS_FIELD, _AGREEMENT_FIELD,
     ]
 
 
@@ -478,12 +481,7 @@ DOS_FIELDS = [
     {"name": "exact", "type": "string",
      "description": "closed form K(1 - E^2/16)/(2 pi^2) in sympy syntax (elliptic_k of "
                     "parameter m), 0 outside the band"},
-    {"name": "error_bound", "type": "string",
-     "description": "bound on |value - true value| (half a unit in the last place)"},
-    {"name": "methods", "type": "string",
-     "description": "independent methods that confirmed the value, separated by ';'"},
-    {"name": "agreement_digits", "type": "integer",
-     "description": "significant digits on which those methods agree"},
+    _ERROR_FIELD, _METHODS_FIELD, _AGREEMENT_FIELD,
 ]
 
 
