@@ -110,21 +110,26 @@ class Result:
             return mpmath.mpf(self.value)
 
     def to_json(self) -> dict[str, Any]:
-        return {
-            "lattice": self.lattice,
-            "quantity": self.quantity,
-            "site": list(self.site),
-            "canonical_site": list(self.canonical_site),
-            "digits": self.digits,
-            "value": self.value,
-            "exact": None if self.exact is None else str(self.exact),
-            "exact_how": None if self.exact is None else self.exact.how,
-            "error_bound": self.error_bound,
-            "methods": list(self.methods),
-            "agreement_digits": self.agreement_digits,
-            "notes": list(self.notes),
-            **({"energy": self.energy} if self.energy is not None else {}),
-        }
+        return {**common_json(self),
+                **({"energy": self.energy} if self.energy is not None else {})}
+
+
+def common_json(r: Any) -> dict[str, Any]:
+    """The JSON keys every single-value result has (``Result``, ``GreenResult``), in order."""
+    return {
+        "lattice": r.lattice,
+        "quantity": r.quantity,
+        "site": list(r.site),
+        "canonical_site": list(r.canonical_site),
+        "digits": r.digits,
+        "value": r.value,
+        "exact": None if r.exact is None else str(r.exact),
+        "exact_how": None if r.exact is None else r.exact.how,
+        "error_bound": r.error_bound,
+        "methods": list(r.methods),
+        "agreement_digits": r.agreement_digits,
+        "notes": list(r.notes),
+    }
 
 
 def mpf_fraction(x: mpmath.mpf) -> Fraction:

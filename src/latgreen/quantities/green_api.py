@@ -28,7 +28,7 @@ from ..lattices import Site, get_lattice
 from ..methods.square_green_closed import arb_q, dos_ball
 from ..methods.square_green_quadrature import green_quad
 from ..rounding import ZERO, Rounded, agreement_digits
-from . import Result, check_digits
+from . import Result, check_digits, common_json
 from .square_green import quad_digits_needed
 
 BASIS_TEXT = ("G00 = G(E;0,0) = 2*elliptic_k(16/E**2)/(pi*E), G11 = G(E;1,1) = "
@@ -90,18 +90,7 @@ class GreenResult:
 
     def to_json(self) -> dict[str, Any]:
         return {
-            "lattice": self.lattice,
-            "quantity": self.quantity,
-            "site": list(self.site),
-            "canonical_site": list(self.canonical_site),
-            "digits": self.digits,
-            "value": self.value,
-            "exact": None if self.exact is None else str(self.exact),
-            "exact_how": None if self.exact is None else self.exact.how,
-            "error_bound": self.error_bound,
-            "methods": list(self.methods),
-            "agreement_digits": self.agreement_digits,
-            "notes": list(self.notes),
+            **common_json(self),
             "energy": str(self.energy),
             "value_re": self.value_re,
             "value_im": self.value_im,
