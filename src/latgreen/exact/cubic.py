@@ -199,18 +199,25 @@ def _canon(s: Sequence[int]) -> Site:
 
 
 class _SC:
-    """The sc recursion (module docstring), grown on demand."""
+    """The sc recursion (module docstring), grown on demand, at the energy ``energy`` (z = 6
+    at the band edge, where (E1) and (C3) were written; both hold at every E, with E in place
+    of 6 in (C3)) from ``seeds`` at 0, (1, 0, 0), (1, 1, 0), (1, 1, 1) given as vectors on
+    the caller's basis."""
 
-    def __init__(self) -> None:
-        self.G: dict[Site, Vec] = _seed_vecs("sc")
-        self.G[(1, 0, 0)] = _vec(Fraction(1, 2), 0, Fraction(-1, 6))
+    def __init__(self, energy: Fraction | int = 6, seeds: dict[Site, Vec] | None = None
+                 ) -> None:
+        self.E = Fraction(energy)
+        if seeds is None:
+            seeds = _seed_vecs("sc")
+            seeds[(1, 0, 0)] = _vec(Fraction(1, 2), 0, Fraction(-1, 6))
+        self.G: dict[Site, Vec] = dict(seeds)
         self.extent = 1
 
     def g(self, t: Sequence[int]) -> Vec:
         return self.G[_canon(t)]
 
     def H(self, s: Site) -> Vec:
-        acc = _mul(-6, self.g(s))
+        acc = _mul(-self.E, self.g(s))
         for i in range(3):
             t = list(s)
             t[i] += -1 if s[i] > 0 else 1
@@ -238,8 +245,8 @@ class _SC:
         self.extent = extent
 
 
-def _frac_row(R: flint.fmpq_mat, row: int, nv: int) -> Vec:
-    return tuple(Fraction(int(R[row, nv + j].p), int(R[row, nv + j].q)) for j in range(NV))
+def _frac_row(R: flint.fmpq_mat, row: int, nv: int, width: int) -> Vec:
+    return tuple(Fraction(int(R[row, nv + j].p), int(R[row, nv + j].q)) for j in range(width))
 
 
 def _on_layer(layer: int) -> Callable[[Site], bool]:
@@ -247,11 +254,18 @@ def _on_layer(layer: int) -> Callable[[Site], bool]:
 
 
 class _Layered:
-    """bcc / fcc: exact solves of (L) and (E1), layer by layer (module docstring)."""
+    """bcc / fcc: exact solves of (L) and (E1), layer by layer (module docstring), at the
+    energy ``energy`` (z at the band edge; (L) and (E1) hold at every E) from ``seeds`` at
+    0 and the two sites of SEEDS, given as vectors on a basis whose constant 1 is ``unit``."""
 
-    def __init__(self, lattice: str) -> None:
+    def __init__(self, lattice: str, energy: Fraction | int | None = None,
+                 seeds: dict[Site, Vec] | None = None, unit: Vec = UNIT) -> None:
         self.lat: Lattice = LATTICE[lattice]
         self.name = lattice
+        self.E = Fraction(self.lat.z if energy is None else energy)
+        self.seeds = _seed_vecs(lattice) if seeds is None else seeds
+        self.unit = unit
+        self.zero: Vec = tuple(Fraction(0) for _ in unit)
         self.G: dict[Site, Vec] = {}
         self.extent = -1
 
@@ -260,17 +274,17 @@ class _Layered:
 
     def _solve(self, eq_sites: list[Site], unknown: list[Site], fixed: dict[Site, Vec],
                keep: Callable[[Site], bool]) -> None:
-        z = self.lat.z
+        z, W = self.E, len(self.unit)
         nb = self.lat.neighbours
         idx = {("G", s): i for i, s in enumerate(unknown)}
         for s in eq_sites:
             if any(s):
                 idx[("L", s)] = len(idx)
         nv = len(idx)
-        rows: list[tuple[dict[int, int], Vec]] = []
+        rows: list[tuple[dict[int, Fraction], Vec]] = []
         for s in eq_sites:
             r: dict[int, int] = {}
-            rhs = UNIT if not any(s) else ZERO
+            rhs = self.unit if not any(s) else self.zero
             terms = [(z, s)] + [(-1, _canon((s[0] + e[0], s[1] + e[1], s[2] + e[2])))
                                 for e in nb]
             for coef, t in terms:
@@ -284,7 +298,7 @@ class _Layered:
                 if s[i] == 0:
                     continue
                 r = {idx[("L", s)]: s[i]}
-                rhs = ZERO
+                rhs = self.zero
                 for e in nb:
                     if e[i]:
                         t = _canon((s[0] + e[0], s[1] + e[1], s[2] + e[2]))
@@ -294,18 +308,19 @@ class _Layered:
                             k = idx[("G", t)]
                             r[k] = r.get(k, 0) - e[i]
                 rows.append((r, rhs))
-        M = flint.fmpq_mat(len(rows), nv + NV)
+        M = flint.fmpq_mat(len(rows), nv + W)
         for a, (r, c) in enumerate(rows):
             for k, v in r.items():
                 if v:
-                    M[a, k] = v
-            for j in range(NV):
+                    v = Fraction(v)
+                    M[a, k] = flint.fmpq(v.numerator, v.denominator)
+            for j in range(W):
                 if c[j]:
                     M[a, nv + j] = flint.fmpq(c[j].numerator, c[j].denominator)
         R, rank = M.rref()
         pivots: dict[int, int] = {}
         for row in range(rank):
-            col = next(k for k in range(nv + NV) if R[row, k] != 0)
+            col = next(k for k in range(nv + W) if R[row, k] != 0)
             if col >= nv:
                 raise ArithmeticError(f"{self.name}: inconsistent system")
             pivots[col] = row
@@ -316,13 +331,13 @@ class _Layered:
             prow = pivots.get(idx[("G", s)])
             if prow is None or any(R[prow, f] != 0 for f in free):
                 raise ArithmeticError(f"{self.name} site {s} is not determined")
-            self.G[s] = _frac_row(R, prow, nv)
+            self.G[s] = _frac_row(R, prow, nv, W)
 
     def grow(self, extent: int) -> None:
         if extent <= self.extent:
             return
         if self.extent < 0:
-            seeds = _seed_vecs(self.name)
+            seeds = self.seeds
             eq = self._sites(0, 4)
             unknown = [s for s in self._sites(0, 5) if s not in seeds]
             self.G.update(seeds)

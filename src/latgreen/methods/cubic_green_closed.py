@@ -83,13 +83,17 @@ the balls are python-flint's, so every result is a rigorous enclosure.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from fractions import Fraction
+from typing import Any, TypeVar
 
-from flint import acb, arb, ctx, fmpq
+from flint import acb, acb_series, arb, ctx, fmpq
 
 from ..energy import Energy
 
 Cq = tuple[Fraction, Fraction]
+T = TypeVar("T", acb, acb_series)
+Lift = Callable[[acb], Any]
 
 
 def _acb(x: Cq) -> acb:
@@ -104,21 +108,37 @@ def _inv_sq(E: Energy) -> Cq:
     return a / n, -b / n
 
 
-def _sc_from_xi(E: acb, xi: acb) -> acb:
+def _root(arg: T, c0: acb) -> T:
+    """The square root of ``arg`` (an acb, or an acb_series in h = E - E0) on the branch
+    whose value at h = 0 is ``c0``, chosen by the caller from exact inputs (branches
+    above).  For a series, c0 sqrt(arg/arg(0)) is the unique analytic root with constant
+    term c0 (arg(0) != 0: the energies where it vanishes are refused before)."""
+    if isinstance(arg, acb):
+        return c0  # type: ignore[return-value]
+    return c0 * (arg / arg.coeffs()[0]).sqrt()  # type: ignore[union-attr,return-value]
+
+
+def _const(x: Any) -> acb:
+    return x if isinstance(x, acb) else x.coeffs()[0]
+
+
+def _sc_from_xi(E: T, xi: T) -> T:
     d = (1 - xi) ** 3 * (1 + 3 * xi)
     k2 = 16 * xi**3 / d
-    return (1 - 9 * xi**4) / d * (2 * k2.elliptic_k() / arb.pi()) ** 2 / E
+    return (1 - 9 * xi**4) / d * (2 * k2.elliptic_k() / arb.pi()) ** 2 / E  # type: ignore
 
 
-def _sc_quadrant(E: Energy) -> acb:
+def _sc_quadrant(E: Energy, lift: Lift) -> Any:
     """G_sc(E; 0) for Re E >= 0, Im E >= 0, E != 0, at the current precision."""
     ir, ii = _inv_sq(E)
-    s9 = _acb((1 - 4 * ir, -4 * ii)).sqrt()  # sqrt(1 - zeta^2/9), zeta^2 = 36/E^2
-    s1 = _acb((1 - 36 * ir, -36 * ii)).sqrt()  # sqrt(1 - zeta^2)
+    Ez = lift(_acb((E.re, E.im)))
+    iz2 = 1 / Ez**2
+    s9 = _root(1 - 4 * iz2, _acb((1 - 4 * ir, -4 * ii)).sqrt())  # sqrt(1 - zeta^2/9)
+    s1 = _root(1 - 36 * iz2, _acb((1 - 36 * ir, -36 * ii)).sqrt())  # sqrt(1 - zeta^2)
     r = (1 - s9) / (1 + s1)  # xi^2
-    Ez = _acb((E.re, E.im))
+    r0 = _const(r)
     # E = iy: xi^2 < 0, take the limit from Re E > 0
-    xi = acb(0, -(-r.real).sqrt()) if E.re == 0 else r.sqrt()
+    xi = _root(r, acb(0, -(-r0.real).sqrt()) if E.re == 0 else r0.sqrt())
     return _sc_from_xi(Ez, xi)
 
 
@@ -127,34 +147,40 @@ def _sc_zero() -> acb:
     return -(arb(3).sqrt() / 4) * w * (2 * w.elliptic_k() / arb.pi()) ** 2
 
 
-def _bcc_quadrant(E: Energy) -> acb:
+def _bcc_quadrant(E: Energy, lift: Lift) -> Any:
     """G_bcc(E; 0) for Re E >= 0, Im E >= 0, E != 0, at the current precision."""
     ir, ii = _inv_sq(E)
-    Ez = _acb((E.re, E.im))
+    Ez = lift(_acb((E.re, E.im)))
     if E.im == 0 and E.re < 8:  # on the band: sqrt(1 - 64/(x + i0)^2) = +i sqrt(64/x^2 - 1)
-        s = acb(0, arb(fmpq((64 * ir - 1).numerator, (64 * ir - 1).denominator)).sqrt())
+        s0 = acb(0, arb(fmpq((64 * ir - 1).numerator, (64 * ir - 1).denominator)).sqrt())
     else:
-        s = _acb((1 - 64 * ir, -64 * ii)).sqrt()
+        s0 = _acb((1 - 64 * ir, -64 * ii)).sqrt()
+    s = _root(1 - 64 / Ez**2, s0)
     u = (1 - s) / 2
     return (2 * u.elliptic_k() / arb.pi()) ** 2 / Ez
 
 
-def _fcc(E: Energy) -> acb:
+def _fcc(E: Energy, lift: Lift) -> Any:
     """G_fcc(E; 0) at the current precision, E != 0, -4."""
-    Ez = _acb((E.re, E.im))
+    Ez = lift(_acb((E.re, E.im)))
     n = E.re * E.re + E.im * E.im
     inv = (E.re / n, -E.im / n)  # 1/E exactly
     if E.im == 0 and -4 < E.re < 0:  # 1 + 4/(E + i0) lies just below the negative axis
         t = 1 + 4 * inv[0]
-        r1 = acb(0, -arb(fmpq((-t).numerator, (-t).denominator)).sqrt())
+        c1 = acb(0, -arb(fmpq((-t).numerator, (-t).denominator)).sqrt())
     else:
-        r1 = _acb((1 + 4 * inv[0], 4 * inv[1])).sqrt()  # sqrt(1 + 1/w), w = E/4
-    r3 = _acb((1 - 12 * inv[0], -12 * inv[1])).sqrt()  # sqrt(1 - 3/w)
+        c1 = _acb((1 + 4 * inv[0], 4 * inv[1])).sqrt()  # sqrt(1 + 1/w), w = E/4
     iw = 4 / Ez  # 1/w
+    r1 = _root(1 + iw, c1)
+    r3 = _root(1 - 3 * iw, _acb((1 - 12 * inv[0], -12 * inv[1])).sqrt())  # sqrt(1 - 3/w)
     k2 = arb(1) / 2 - 2 * iw / r1**3 - (1 - iw) * r3 / (2 * r1**3)
     xi = (r1 - 1) / (1 + r3)
     pre = xi * (1 - 3 * xi) * (1 + xi) / ((1 - xi) ** 3 * (1 + 3 * xi))
     return pre * (2 * k2.elliptic_k() / arb.pi()) ** 2
+
+
+def _scalar(x: acb) -> acb:
+    return x
 
 
 def origin_ball(lattice: str, E: Energy, prec: int) -> acb:
@@ -175,15 +201,15 @@ def origin_ball(lattice: str, E: Energy, prec: int) -> acb:
             if E.im == 0 and E.re == 0:  # the limit (module docstring)
                 w = acb(arb(1) / 2, arb(3).sqrt() / 2)  # e^(i pi/3)
                 return +(acb(0, -arb(3).sqrt() / 4) * (2 * w.elliptic_k() / arb.pi()) ** 2)
-            return +_fcc(E)
+            return +_fcc(E, _scalar)
         if E.im == 0 and E.re == 0:
             if lattice != "sc":
                 raise ValueError("G_bcc(E; 0) diverges at E = 0")
             v = _sc_zero()
         elif E.re >= 0:
-            v = quad(E)
+            v = quad(E, _scalar)
         else:  # G(E) = -G(-E) = -conj G(-conj E)  (bipartite, conjugation)
-            v = -quad(Energy(-E.re, E.im)).conjugate()
+            v = -quad(Energy(-E.re, E.im), _scalar).conjugate()
         return +v
     finally:
         ctx.prec = old
@@ -196,5 +222,51 @@ def dos_ball(lattice: str, x: Fraction, prec: int) -> arb:
         ctx.prec = prec + 30
         v = -origin_ball(lattice, Energy(x, Fraction(0)), prec).imag / arb.pi()
         return +v
+    finally:
+        ctx.prec = old
+
+
+def origin_jet(lattice: str, E: Energy, prec: int, order: int = 3) -> list[acb]:
+    """G(E; 0) and its first ``order - 1`` derivatives in E, [G, G', G'', ...], as acb balls
+    at about ``prec`` bits: the closed forms above evaluated in power-series arithmetic
+    (python-flint ``acb_series``, E -> E + h), each square root on the branch the scalar
+    form takes at h = 0 (``_root``), so that the series is the Taylor expansion of the same
+    analytic function (for real E on the band: of the retarded branch, continued from the
+    upper half plane).  Re E < 0 (sc, bcc) via G(E) = -conj G(-conj E), whose k-th
+    derivative is (-1)^(k+1) conj G^(k)(-conj E).  Refused where a derivative is infinite
+    or the form has a removable singularity: the band edges, the van Hove points
+    (sc +-2, fcc 0) and E = 0.
+
+    >>> from latgreen.energy import parse_energy
+    >>> g = origin_jet("bcc", parse_energy("9", "bcc"), 80)
+    >>> # G' = -sum_N (2N+1) C(2N,N)^3 E^(-2N-2): the walk series, common practice
+    >>> g[1].real.str(10, radius=False)
+    '-0.02260199923'
+    """
+    bad = {"sc": (-6, -2, 0, 2, 6), "bcc": (-8, 0, 8), "fcc": (-4, 0, 12)}[lattice]
+    if E.im == 0 and E.re in bad:
+        raise ValueError(f"the derivatives of the {lattice} G(E; 0) are not finite (or the "
+                         f"closed form is singular) at E = {E}")
+    old = ctx.prec
+    try:
+        ctx.prec = prec + 30
+
+        def lift(x: acb) -> acb_series:
+            return acb_series([x, 1], prec=order)
+
+        if lattice == "fcc":
+            c = _fcc(E, lift).coeffs()
+        elif E.re >= 0:
+            c = (_sc_quadrant if lattice == "sc" else _bcc_quadrant)(E, lift).coeffs()
+        else:
+            q = (_sc_quadrant if lattice == "sc" else _bcc_quadrant)(
+                Energy(-E.re, E.im), lift).coeffs()
+            c = [(-1) ** (k + 1) * q[k].conjugate() for k in range(len(q))]
+        c = list(c) + [acb(0)] * (order - len(c))
+        out, f = [], 1
+        for k in range(order):
+            out.append(+(c[k] * f))
+            f *= k + 1
+        return out
     finally:
         ctx.prec = old
