@@ -43,7 +43,8 @@ from ..exact.complex_eval import ComplexRounded, certify_complex
 from ..exact.forms import ExactForm
 from ..lattices import Site, get_lattice
 from ..lattices.cubic import Cubic
-from ..methods.cubic_green_closed import origin_ball
+from ..exact import cubic_energy
+from ..methods.cubic_green_closed import origin_ball, origin_jet
 from ..methods.cubic_green_integral import green_integral
 from ..methods.cubic_quadrature import green_energy_quad
 from ..methods.fcc_green_nested import green_fcc_nested
@@ -248,27 +249,107 @@ def integral_value(lattice: str, c: Site, E: Energy, digits: int) -> ComplexRoun
     return ComplexRounded(parts[0], parts[1], (centre[0], centre[1]), 0)
 
 
-def quad_value(lattice: str, c: Site, E: Energy, digits: int) -> tuple[Fraction, Fraction]:
-    """The reduced 2-D rule's value, accurate enough to confirm each component to
-    ``digits`` digits of its own (exact Fractions of the mpmath result)."""
-    c3 = (c[0], c[1], c[2])
+def _method_value(lattice: str, c: Site, E: Energy, digits: int, method: Any
+                  ) -> tuple[Fraction, Fraction]:
+    """``method(dps)`` (a quadrature whose accuracy is relative to |G|) run accurately enough
+    to confirm each component to ``digits`` digits of its own (exact Fractions)."""
     zero = zero_parts(lattice, E, c)
-    extra = _extra_digits(lattice, c, E, zero,
-                          lambda d: green_energy_quad(lattice, c3, E, d))
+    extra = _extra_digits(lattice, c, E, zero, method)
     with mpmath.workdps(digits + extra + 20):
-        b = green_energy_quad(lattice, c3, E, digits + extra + 3)
+        b = method(digits + extra + 3)
         return _frac(mpmath.re(b)), _frac(mpmath.im(b))
+
+
+def quad_value(lattice: str, c: Site, E: Energy, digits: int) -> tuple[Fraction, Fraction]:
+    """The reduced 2-D rule's value (off the band)."""
+    c3 = (c[0], c[1], c[2])
+    return _method_value(lattice, c, E, digits, lambda d: green_energy_quad(lattice, c3, E, d))
 
 
 def bessel_value(c: Site, E: Energy, digits: int) -> tuple[Fraction, Fraction]:
-    """sc: the time-domain Bessel integral's value, accurate enough to confirm each
-    component to ``digits`` digits of its own."""
+    """sc: the time-domain Bessel integral's value."""
     c3 = (c[0], c[1], c[2])
-    zero = zero_parts("sc", E, c)
-    extra = _extra_digits("sc", c, E, zero, lambda d: green_bessel(E, c3, d))
-    with mpmath.workdps(digits + extra + 20):
-        b = green_bessel(E, c3, digits + extra + 3)
-        return _frac(mpmath.re(b)), _frac(mpmath.im(b))
+    return _method_value("sc", c, E, digits, lambda d: green_bessel(E, c3, d))
+
+
+def integral_check(lattice: str, c: Site, E: Energy, digits: int) -> tuple[Fraction, Fraction]:
+    """sc, bcc: the 1-D integral's value."""
+    c3 = (c[0], c[1], c[2])
+    return _method_value(lattice, c, E, digits, lambda d: green_integral(lattice, E, c3, d))
+
+
+def fcc_sites_check(c: Site, E: Energy, digits: int) -> tuple[Fraction, Fraction]:
+    """fcc, real E inside the band: the per-site nested integral."""
+    from ..methods.fcc_green_sites import fcc_green_sites
+
+    c3 = (c[0], c[1], c[2])
+    return _method_value("fcc", c, E, digits,
+                         lambda d: fcc_green_sites(E, [c3], d)[0])
+
+
+# ------------------------------------------------ exact forms through G0, G0', G0''
+
+REC_BASIS = ("G0 = G(E;0) by the closed form (" + "{closed}" + "); dG0, d2G0 = its first and "
+             "second derivatives in E (the same closed form in power-series arithmetic)")
+
+
+def recurrence_ok(lattice: str, E: Energy) -> bool:
+    """The exact forms a + b G0 + c G0' + d G0'' (exact/cubic_energy.py) are offered: real E,
+    not a band edge, van Hove point or E = 0."""
+    return E.im == 0 and cubic_energy.available(lattice, E.re)
+
+
+def _rec_ball(lattice: str, v: Any, E: Energy, bits: int) -> Any:
+    from flint import ctx
+
+    jet = origin_jet(lattice, E, bits)
+    old = ctx.prec
+    try:
+        ctx.prec = bits + 30
+        return cubic_energy.ball(v, jet)
+    finally:
+        ctx.prec = old
+
+
+def recurrence_value(lattice: str, c: Site, E: Energy, digits: int) -> ComplexRounded:
+    """G(E; c), canonical c, from its exact form as a certified ball (each component
+    correctly rounded, or exactly 0 by symmetry)."""
+    v = cubic_energy.green_vectors(lattice, E.re, c[0])[c]
+    return certify_complex(lambda bits: _rec_ball(lattice, v, E, bits),
+                           cubic_energy.start_bits(v, digits), digits,
+                           zero_parts(lattice, E, c), f"{lattice} G({E};{c})")
+
+
+def check_value(lattice: str, c: Site, E: Energy, digits: int
+                ) -> tuple[str, str, tuple[Fraction, Fraction]]:
+    """The independent check of the exact form at a real energy: (method, text, value):
+    the 1-D integral (sc, bcc), the nested per-site integral (fcc inside the band) or the
+    reduced 2-D rule (fcc outside it)."""
+    if lattice != "fcc":
+        return "integral", "the 1-D integral over k3", integral_check(lattice, c, E, digits)
+    if _inside(lattice, E):
+        return ("integral", "the nested per-site integral (methods/fcc_green_sites.py)",
+                fcc_sites_check(c, E, digits))
+    return "quadrature", "the reduced 2-D rule", quad_value(lattice, c, E, digits)
+
+
+def _site_exact(lattice: str, s: Site, c: Site, E: Energy, digits: int) -> GreenResult:
+    v = recurrence_value(lattice, c, E, digits)
+    name, text, q = check_value(lattice, c, E, digits)
+    zero = zero_parts(lattice, E, c)
+    agree = component_agreement(v.center, q, zero, digits)
+    if agree < digits:
+        raise VerificationError(f"{lattice} G({E}; {c}): exact form and {text} agree to "
+                                f"only {agree} of {digits} digits")
+    form = cubic_energy.green_form(lattice, E.re, c)
+    return GreenResult(lattice, s, c, E, digits, str(v.re), str(v.im), form,
+                       v.re.half_ulp(), v.im.half_ulp(), _modulus_bound([v.re, v.im]),
+                       ("recurrence", name), agree,
+                       notes=((FCC_NOTE,) if lattice == "fcc" else ()) +
+                       ("exact form derived from the lattice equation, the relations "
+                        "s_i L(s) = sum_e e_i G(s+e) and their E-derivatives "
+                        f"(exact/cubic_energy.py); confirmed on {agree} digits by {text}",),
+                       basis=REC_BASIS.format(closed=CLOSED_TEXT[lattice]))
 
 
 def _second(lattice: str, c: Site, E: Energy, digits: int
@@ -287,24 +368,27 @@ def _refuse_one_method(lattice: str, c: Site, E: Energy, what: str = "G(E; r)") 
     """InputError where, inside the band, the 1-D integral has no independent check: every
     bcc site beyond the nearest neighbour, sc sites with a coordinate above 12 (fcc sites
     beyond the neighbour are refused everywhere, see _site)."""
-    if lattice == "sc" and max(c) <= BESSEL_MAX:
+    if lattice == "sc" and max(c) <= BESSEL_MAX or recurrence_ok(lattice, E):
         return
-    lo, hi = get_lattice(lattice).band
     if lattice == "fcc":
-        raise InputError(f"fcc {what} beyond the nearest neighbour (1, 1, 0) has one method "
-                         "here (a quadrature) and no independent check")
+        raise InputError(f"fcc {what} beyond the nearest neighbour (1, 1, 0) at E = {E}: "
+                         "offered at real energies other than " +
+                         ", ".join(str(x) for x in cubic_energy.EXCLUDED["fcc"]) +
+                         " (exact forms and a second method exist only there)")
     where = f"with a coordinate above {BESSEL_MAX} " if lattice == "sc" else ""
-    raise InputError(f"{lattice} {what} for real E inside the band ({lo}, {hi}) beyond the "
-                     f"nearest neighbour {NEIGHBOUR[lattice]} {where}has one method here (the "
-                     "1-D integral) and no independent check: ask at a complex energy or a "
-                     "real one outside the band")
+    raise InputError(f"{lattice} {what} at E = {E} beyond the nearest neighbour "
+                     f"{NEIGHBOUR[lattice]} {where}has one method here (the 1-D integral) and "
+                     "no independent check: ask at a real energy other than " +
+                     ", ".join(str(x) for x in cubic_energy.EXCLUDED[lattice]) +
+                     " or at a complex one off the band")
 
 
 def _site(lattice: str, s: Site, c: tuple[int, int, int], E: Energy,
           digits: int) -> GreenResult:
+    if recurrence_ok(lattice, E):
+        return _site_exact(lattice, s, c, E, digits)
     if lattice == "fcc":
-        raise InputError("fcc G(E; r) beyond the nearest neighbour (1, 1, 0) has one method "
-                         "here (the 2-D quadrature) and no independent check")
+        _refuse_one_method(lattice, c, E)
     zero = zero_parts(lattice, E, c)
     what = f"{lattice} G({E}; {c})"
     if _inside(lattice, E):
@@ -406,10 +490,46 @@ def _local_dos(lattice: str) -> Any:
             return _density(lattice, "local-dos", s, E, digits, c)
         if not _inside(lattice, E):
             return _zero_result(lattice, "local-dos", s, c, E, digits)
+        if recurrence_ok(lattice, E):
+            return _local_dos_exact(lattice, s, c, E, digits)
         _refuse_one_method(lattice, c, E, "local DOS")
         return _local_dos_site(s, c, E, digits)
 
     return local_dos
+
+
+def _local_dos_exact(lattice: str, s: Site, c: Site, E: Energy, digits: int) -> Result:
+    """-Im G(E + i0; r)/pi from the exact form (a certified ball), confirmed by the check of
+    ``check_value``."""
+    if digits > MAX_DIGITS_QUAD:
+        raise InputError(f"the {lattice} local DOS at {c}: at most {MAX_DIGITS_QUAD} digits")
+    from flint import arb, ctx
+
+    v = cubic_energy.green_vectors(lattice, E.re, c[0])[c]
+
+    def build(bits: int) -> Any:
+        b = _rec_ball(lattice, v, E, bits)
+        old = ctx.prec
+        try:
+            ctx.prec = bits + 30
+            return -b.imag / arb.pi()
+        finally:
+            ctx.prec = old
+
+    what = f"the {lattice} local DOS at E = {E}, site {c}"
+    r, centre = _certify_real(build, cubic_energy.start_bits(v, digits), digits, what)
+    name, text, q = check_value(lattice, c, E, digits + 2)
+    with mpmath.workdps(digits + 30):
+        qf = _frac(-mpmath.mpf(q[1].numerator) / q[1].denominator / mpmath.pi)
+    agree = agreement_digits(centre, qf, digits)
+    if agree < digits:
+        raise VerificationError(f"{what}: exact form and {text} agree to only {agree} of "
+                                f"{digits} digits")
+    return Result(lattice, "local-dos", s, c, digits, str(r), None, r.half_ulp(),
+                  ("recurrence", name), agree,
+                  notes=(f"-Im of the exact form {cubic_energy.green_form(lattice, E.re, c)}"
+                         ", divided by pi; " + REC_BASIS.format(closed=CLOSED_TEXT[lattice]),),
+                  energy=str(E))
 
 
 def _local_dos_site(s: Site, c: Site, E: Energy, digits: int) -> Result:
@@ -458,11 +578,14 @@ class TableForm:
 
 
 class CubicGreen(Provider):
-    """sc / bcc x green bound to one energy (bcc: complex E or real E outside the band; sc:
-    any).  Batches are the columns (l, m) of the canonical region; the origin and the nearest
-    neighbour come from the closed form (certified balls), every other site from the 1-D
-    integral with 10 guard digits; every row is checked at full digits by the time-domain
-    Bessel integral (sc, extent up to 12) or the reduced 2-D rule (bcc)."""
+    """sc / bcc / fcc x green bound to one energy.  Batches are the columns (l, m) of the
+    canonical region.  At a real energy where the exact forms a + b G0 + c G0' + d G0'' exist
+    (``recurrence_ok``) every row is its exact form as a certified ball, checked by the 1-D
+    integral (sc, bcc), the nested per-site integral (fcc inside the band) or the reduced 2-D
+    rule (fcc outside it).  Elsewhere (complex energies, the excluded real ones): the origin
+    and the nearest neighbour from the closed form, every other site from the 1-D integral
+    with 10 guard digits, checked by the Bessel integral (sc, extent up to 12) or the 2-D
+    rule (bcc off the band); fcc refused."""
 
     complex_valued = True
     exact_limit = 60
@@ -481,17 +604,37 @@ class CubicGreen(Provider):
         self.lattice = get_lattice(lattice)
         self.quantity = "green"
         self.energy = energy
-        if lattice == "sc":  # table_limit <= BESSEL_MAX: every sc row has the Bessel check
+        self.exact = recurrence_ok(lattice, energy)
+        if self.exact:
+            self.table_limit = 30
+            self.primary_text = (
+                "recurrence: exact forms a + b*G0 + c*dG0 + d*d2G0 (rational a..d; the lattice "
+                "equation, s_i L(s) = sum_e e_i G(s+e) and their E-derivatives, "
+                "exact/cubic_energy.py) evaluated as certified python-flint balls, G0 and its "
+                "derivatives from the closed form in power-series arithmetic")
+            self.check_text, self.check_name = {
+                "sc": ("the 1-D integral over k3 of the square lattice's closed form",
+                       "integral"),
+                "bcc": ("the 1-D integral over k3 of the square lattice's closed form",
+                        "integral"),
+                "fcc": ("the nested per-site integral (methods/fcc_green_sites.py)", "integral")
+                if _inside(lattice, energy) else
+                ("the reduced 2-D polar Gauss-Legendre rule", "quadrature")}[lattice]
+        elif lattice == "sc":  # table_limit <= BESSEL_MAX: every sc row has the Bessel check
             self.check_text = "the time-domain Bessel integral (methods/sc_green_bessel.py)"
             self.check_name = "bessel"
         self.energy_methods = {
             "primary": self.primary_text + f"; G0 = {CLOSED_TEXT[lattice]}",
             "check": self.check_text + " at full digits (of each component) for every row"}
-        if lattice == "bcc" and _inside(lattice, energy):
-            lo, hi = self.lattice.band
-            raise InputError(f"a bcc green table needs a complex energy or a real one outside "
-                             f"the band ({lo}, {hi}): inside it only the origin and the "
-                             "nearest neighbour have two methods here")
+        excl = ", ".join(str(x) for x in cubic_energy.EXCLUDED[lattice])
+        if lattice == "fcc" and not self.exact:
+            raise InputError(f"an fcc green table needs a real energy other than {excl}: "
+                             "elsewhere only the origin and the nearest neighbour have two "
+                             "methods here")
+        if lattice == "bcc" and _inside(lattice, energy) and not self.exact:
+            raise InputError(f"a bcc green table inside the band needs an energy other than "
+                             f"{excl}: there only the origin and the nearest neighbour have two "
+                             "methods here")
 
     def _columns(self, extent: int) -> Iterator[list[Site]]:
         lat = self.lattice
@@ -507,6 +650,8 @@ class CubicGreen(Provider):
 
     def value(self, c: Site, digits: int) -> ComplexRounded:
         name, E = self.lattice.name, self.energy
+        if self.exact:
+            return recurrence_value(name, c, E, digits)
         if not any(c) or c == NEIGHBOUR[name]:
             return certify_complex(lambda bits: _ball(name, c, E, bits),
                                    _start_bits(digits) + 64, digits, zero_parts(name, E, c),
@@ -515,6 +660,8 @@ class CubicGreen(Provider):
 
     def form(self, c: Site) -> Any:
         name = self.lattice.name
+        if self.exact:
+            return cubic_energy.green_form(name, self.energy.re, c)
         how = ClosedForm(name).how
         if not any(c):
             return TableForm("G0", how)
@@ -538,11 +685,16 @@ class CubicGreen(Provider):
         return self.form(site)
 
     def row_method(self, c: Site) -> str:
+        if self.exact:
+            return f"recurrence;{self.check_name}"
         closed = not any(c) or c == NEIGHBOUR[self.lattice.name]
         return f"{'closed-form' if closed else 'integral'};{self.check_name}"
 
     def quad_sites(self, sites: list[Site], digits: int) -> list:
-        return [_second(self.lattice.name, c, self.energy, digits)[2] for c in sites]
+        name, E = self.lattice.name, self.energy
+        if self.exact:
+            return [check_value(name, c, E, digits)[2] for c in sites]
+        return [_second(name, c, E, digits)[2] for c in sites]
 
     def memory_estimate(self, extent: int) -> int:
         return 100_000_000
@@ -551,5 +703,5 @@ class CubicGreen(Provider):
         return self.lattice.region_size(extent) * (2 * (2 * digits + 80) + 400)
 
 
-for _name in ("sc", "bcc"):
+for _name in ("sc", "bcc", "fcc"):
     PARAMETRISED[(_name, "green")] = functools.partial(CubicGreen, _name)

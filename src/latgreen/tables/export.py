@@ -232,10 +232,13 @@ GREEN_CONVENTIONS = {
 }
 
 
-CUBIC_GREEN_EXACT = ("G0: the closed form of G(E;0) named in methods.primary; (E*G0 - 1)/z at "
-                     "the nearest neighbour (the lattice equation at the origin); empty: no "
-                     "closed form, the value is the 1-D integral rounded with 10 guard digits "
-                     "and its error bound is an estimate")
+CUBIC_GREEN_EXACT = ("at a real energy other than a band edge, a van Hove point or 0: "
+                     "a*G0 + b*dG0 + c*d2G0 + d with rational a, b, c, d, G0 = G(E;0) the "
+                     "closed form named in methods.primary and dG0, d2G0 its first and second "
+                     "derivatives in E; at other energies: G0 at the origin, (E*G0 - 1)/z at "
+                     "the nearest neighbour (the lattice equation at the origin) and empty "
+                     "elsewhere (no exact form: the value is the 1-D integral rounded with 10 "
+                     "guard digits and its error bound is an estimate)")
 
 
 TRIHEX_GREEN_EXACT = {
