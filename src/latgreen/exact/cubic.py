@@ -283,7 +283,7 @@ class _Layered:
         nv = len(idx)
         rows: list[tuple[dict[int, Fraction], Vec]] = []
         for s in eq_sites:
-            r: dict[int, int] = {}
+            r: dict[int, Fraction] = {}
             rhs = self.unit if not any(s) else self.zero
             terms = [(z, s)] + [(-1, _canon((s[0] + e[0], s[1] + e[1], s[2] + e[2])))
                                 for e in nb]
@@ -292,12 +292,12 @@ class _Layered:
                     rhs = _sub(rhs, _mul(coef, fixed[t]))
                 else:
                     k = idx[("G", t)]
-                    r[k] = r.get(k, 0) + coef
+                    r[k] = r.get(k, Fraction(0)) + coef
             rows.append((r, rhs))
             for i in range(3):
                 if s[i] == 0:
                     continue
-                r = {idx[("L", s)]: s[i]}
+                r = {idx[("L", s)]: Fraction(s[i])}
                 rhs = self.zero
                 for e in nb:
                     if e[i]:
@@ -306,13 +306,12 @@ class _Layered:
                             rhs = _add(rhs, _mul(e[i], fixed[t]))
                         else:
                             k = idx[("G", t)]
-                            r[k] = r.get(k, 0) - e[i]
+                            r[k] = r.get(k, Fraction(0)) - e[i]
                 rows.append((r, rhs))
         M = flint.fmpq_mat(len(rows), nv + W)
         for a, (r, c) in enumerate(rows):
             for k, v in r.items():
                 if v:
-                    v = Fraction(v)
                     M[a, k] = flint.fmpq(v.numerator, v.denominator)
             for j in range(W):
                 if c[j]:

@@ -43,7 +43,7 @@ from fractions import Fraction
 import flint
 
 from ..lattices import Site
-from .cubic import LATTICE, _canon, _Layered, _SC
+from .cubic import _SC, LATTICE, _canon, _Layered
 from .square_green import GreenForm
 
 Vec = tuple[Fraction, ...]  # coefficients of (1, G0, G0', G0'')
@@ -118,10 +118,10 @@ def _solve_block(lattice: str, E: Fraction, N: int) -> dict[Site, Vec] | None:
     free = [k for k in range(nv) if k not in pivots]
     out: dict[Site, Vec] = {}
     for s in SEED_SITES[lattice]:
-        row = pivots.get(idx[("G", 0, s)])
-        if row is None or any(R[row, f] != 0 for f in free):
+        prow = pivots.get(idx[("G", 0, s)])
+        if prow is None or any(R[prow, f] != 0 for f in free):
             return None
-        out[s] = tuple(Fraction(int(R[row, nv + j].p), int(R[row, nv + j].q))
+        out[s] = tuple(Fraction(int(R[prow, nv + j].p), int(R[prow, nv + j].q))
                        for j in range(4))
     return out
 
@@ -175,8 +175,7 @@ def green_form(lattice: str, E: Fraction, site: Site) -> GreenForm:
     """
     v = green_vectors(lattice, E, site[0])[site]
     z = Fraction(0)
-    return GreenForm(((v[1], z), (v[2], z), (v[3], z), (v[0], z)),  # type: ignore[arg-type]
-                     "derived", NAMES)  # type: ignore[arg-type]
+    return GreenForm(((v[1], z), (v[2], z), (v[3], z), (v[0], z)), "derived", NAMES)
 
 
 def start_bits(v: Vec, digits: int) -> int:

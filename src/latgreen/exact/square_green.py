@@ -80,9 +80,9 @@ class GreenForm:
     '(1/2 - 3/4*I)*G00 + I*G11'
     """
 
-    coeffs: tuple[Cq, Cq, Cq]
+    coeffs: tuple[Cq, ...]  # one per name, then the constant
     how: str = "derived"
-    names: tuple[str, str] = ("G00", "G11")  # the two basis functions (the lattice's)
+    names: tuple[str, ...] = ("G00", "G11")  # the basis functions (the lattice's)
 
     def __str__(self) -> str:
         parts: list[str] = []
@@ -198,7 +198,7 @@ def columns(E: Energy, N: int) -> Iterator[tuple[int, list[GreenForm]]]:
         cols = _columns_complex(mpq(E.re.numerator, E.re.denominator),
                                 mpq(E.im.numerator, E.im.denominator), N)
         for m, col in enumerate(cols):
-            yield m, [GreenForm(tuple((_fr(x[0]), _fr(x[1])) for x in abc))  # type: ignore[arg-type]
+            yield m, [GreenForm(tuple((_fr(x[0]), _fr(x[1])) for x in abc))
                       for abc in col]
 
 

@@ -189,7 +189,7 @@ class TriSector:
 
 def _form(lattice: str, c: tuple[Any, Any, Any], dirac: bool = False) -> GreenForm:
     names = DIRAC_NAMES if dirac else NAMES[lattice]
-    return GreenForm(tuple(_fr(x) for x in c), names=names)  # type: ignore[arg-type]
+    return GreenForm(tuple(_fr(x) for x in c), names=names)
 
 
 def _dirac_limit(c: tuple[Any, Any, Any]) -> tuple[Any, Any, Any]:

@@ -114,8 +114,8 @@ def _root(arg: T, c0: acb) -> T:
     above).  For a series, c0 sqrt(arg/arg(0)) is the unique analytic root with constant
     term c0 (arg(0) != 0: the energies where it vanishes are refused before)."""
     if isinstance(arg, acb):
-        return c0  # type: ignore[return-value]
-    return c0 * (arg / arg.coeffs()[0]).sqrt()  # type: ignore[union-attr,return-value]
+        return c0
+    return c0 * (arg / arg.coeffs()[0]).sqrt()
 
 
 def _const(x: Any) -> acb:
@@ -125,7 +125,7 @@ def _const(x: Any) -> acb:
 def _sc_from_xi(E: T, xi: T) -> T:
     d = (1 - xi) ** 3 * (1 + 3 * xi)
     k2 = 16 * xi**3 / d
-    return (1 - 9 * xi**4) / d * (2 * k2.elliptic_k() / arb.pi()) ** 2 / E  # type: ignore
+    return (1 - 9 * xi**4) / d * (2 * k2.elliptic_k() / arb.pi()) ** 2 / E
 
 
 def _sc_quadrant(E: Energy, lift: Lift) -> Any:

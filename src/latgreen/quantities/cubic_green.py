@@ -39,11 +39,11 @@ import mpmath
 
 from ..energy import Energy
 from ..errors import InputError, VerificationError
+from ..exact import cubic_energy
 from ..exact.complex_eval import ComplexRounded, certify_complex
 from ..exact.forms import ExactForm
 from ..lattices import Site, get_lattice
 from ..lattices.cubic import Cubic
-from ..exact import cubic_energy
 from ..methods.cubic_green_closed import origin_ball, origin_jet
 from ..methods.cubic_green_integral import green_integral
 from ..methods.cubic_quadrature import green_energy_quad
