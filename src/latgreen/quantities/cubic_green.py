@@ -12,19 +12,26 @@ independent methods every time, or a one-line InputError):
   reduced 2-D rule outside it.
 * The nearest neighbour z: G = (E G(E; 0) - 1)/z, the lattice equation at the origin (all z
   neighbours are equivalent), as a ball from the same closed form; same checks.
-* Other sites (coordinates up to 60): the 1-D integral rounded with 10 guard digits (the
-  error bound is an estimate, said in ``notes``), confirmed by the time-domain Bessel
-  integral (``methods/sc_green_bessel.py``; sc, coordinates up to 12, any energy) or else
-  by the reduced 2-D rule (``methods/cubic_quadrature.green_energy_quad``; off the band
-  only).  Inside the band the bcc beyond the nearest neighbour and sc sites with a
-  coordinate above 12 have one method only and are refused; so is every fcc site beyond the
-  nearest neighbour.
+* Other sites (coordinates up to 60) at a real energy other than the band edges, the van
+  Hove points and 0 (``recurrence_ok``): the exact form a + b G0 + c G0' + d G0''
+  (``exact/cubic_energy.py``) as a certified ball, confirmed by the 1-D integral (sc, bcc),
+  the nested per-site integral (``methods/fcc_green_sites.py``, fcc inside the band) or the
+  reduced 2-D rule (fcc outside it).
+* Other sites at complex energies or the excluded real ones: the 1-D integral rounded with
+  10 guard digits (the error bound is an estimate, said in ``notes``), confirmed by the
+  time-domain Bessel integral (``methods/sc_green_bessel.py``; sc, coordinates up to 12, any
+  energy) or else by the reduced 2-D rule (``methods/cubic_quadrature.green_energy_quad``;
+  off the band only).  Refused (one method only): sc sites with a coordinate above 12 at the
+  van Hove points, fcc sites beyond the nearest neighbour at complex energies.
 * dos(E) = -Im G(E + i0; 0)/pi: the closed form's ball, confirmed by the 1-D integral (sc,
   bcc) or the nested R_F integral (fcc); 0 outside the band and at its edges.
-* local_dos(E; r): the origin and the nearest neighbour as dos; other sc sites inside the
-  band from the 1-D integral confirmed by the Bessel integral; 0 outside the band.
-* Tables at one energy (``CubicGreen``): sc at any energy and bcc off the band, extent up to
-  12, every row checked by the Bessel integral (sc) or the 2-D rule (bcc).
+* local_dos(E; r): the origin and the nearest neighbour as dos; other sites inside the band
+  from the exact form (confirmed as for green), or at the sc van Hove points from the 1-D
+  integral confirmed by the Bessel integral; 0 outside the band.
+* Tables at one energy (``CubicGreen``): at a real energy with exact forms, every row its
+  exact form (extent up to 30), checked by the second method above; otherwise sc at any
+  energy and bcc off the band, extent up to 12, every row checked by the Bessel integral
+  (sc) or the 2-D rule (bcc).
 """
 
 from __future__ import annotations
