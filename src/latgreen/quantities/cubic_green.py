@@ -29,7 +29,7 @@ independent methods every time, or a one-line InputError):
   from the exact form (confirmed as for green), or at the sc van Hove points from the 1-D
   integral confirmed by the Bessel integral; 0 outside the band.
 * Tables at one energy (``CubicGreen``): at a real energy with exact forms, every row its
-  exact form (extent up to 30), checked by the second method above; otherwise sc at any
+  exact form (extent up to 20), checked by the second method above; otherwise sc at any
   energy and bcc off the band, extent up to 12, every row checked by the Bessel integral
   (sc) or the 2-D rule (bcc).
 """
@@ -613,7 +613,7 @@ class CubicGreen(Provider):
         self.energy = energy
         self.exact = recurrence_ok(lattice, energy)
         if self.exact:
-            self.table_limit = 30
+            self.table_limit = 20
             self.primary_text = (
                 "recurrence: exact forms a + b*G0 + c*dG0 + d*d2G0 (rational a..d; the lattice "
                 "equation, s_i L(s) = sum_e e_i G(s+e) and their E-derivatives, "
