@@ -231,3 +231,35 @@ def test_api_result_and_form():
         f = sympy.lambdify((G0, dG0, d2G0), expr, "mpmath")
         v = f(*jet)
         assert abs(v - g.mpc) < mpmath.mpf(10) ** -29 * abs(v)
+
+
+# ------------------------------------------------------------------ complex energies
+
+@pytest.mark.parametrize(("lattice", "E", "site"), [
+    ("sc", "3+1j", (5, 3, 1)), ("bcc", "-2+1/2j", (4, 2, 2)), ("fcc", "3+4j", (3, 2, 1)),
+    ("fcc", "13+1/2j", (4, 2, 0))])
+def test_exact_forms_at_complex_energies(lattice, E, site):
+    """Gaussian-rational coefficients (the realified solves): the exact form vs the 1-D
+    integral (sc, bcc) or the reduced 2-D rule (fcc), our independent methods, 35 digits."""
+    from latgreen.methods.cubic_quadrature import green_energy_quad
+
+    e = parse_energy(E, lattice)
+    f = cubic_energy.field(e)
+    v = cubic_energy.green_vectors(lattice, f, site[0])[site]
+    assert any(isinstance(x, cubic_energy.QI) and x.im for x in v)
+    jet = origin_jet(lattice, e, 300)
+    old = flint.ctx.prec
+    try:
+        flint.ctx.prec = 300
+        got = mp(cubic_energy.ball(v, jet))
+    finally:
+        flint.ctx.prec = old
+    with mpmath.workdps(50):
+        q = (green_integral(lattice, e, site, 35) if lattice != "fcc"
+             else green_energy_quad(lattice, site, e, 35))
+        assert abs(got - q) < mpmath.mpf(10) ** -35 * abs(q)
+
+
+def test_fcc_at_a_complex_energy_api():
+    g = latgreen.green("fcc", (2, 1, 1), energy="3+4j", digits=25)
+    assert g.methods == ("recurrence", "quadrature") and "*I" in str(g.exact)

@@ -70,6 +70,7 @@ from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass
 from fractions import Fraction
 from math import lcm
+from typing import Any
 
 import flint
 
@@ -77,7 +78,9 @@ from ..lattices import Lattice, Site
 from ..lattices.cubic import BCC, FCC, SC
 from .forms import ONE, Constant, ExactForm, compound
 
-Vec = tuple[Fraction, ...]  # (g, 1/(pi^2 g), 1, sigma_1, sigma_2)
+# (g, 1/(pi^2 g), 1, sigma_1, sigma_2) at the band edge; other callers choose their basis
+# (exact/cubic_energy.py), with Gaussian-rational entries (QI) at a complex energy
+Vec = tuple[Any, ...]
 NV = 5
 
 
@@ -169,7 +172,7 @@ def _sub(a: Vec, b: Vec) -> Vec:
     return tuple(x - y for x, y in zip(a, b, strict=True))
 
 
-def _mul(c: Fraction | int, a: Vec) -> Vec:
+def _mul(c: Any, a: Vec) -> Vec:
     return tuple(c * x for x in a)
 
 
@@ -204,9 +207,9 @@ class _SC:
     of 6 in (C3)) from ``seeds`` at 0, (1, 0, 0), (1, 1, 0), (1, 1, 1) given as vectors on
     the caller's basis."""
 
-    def __init__(self, energy: Fraction | int = 6, seeds: dict[Site, Vec] | None = None
+    def __init__(self, energy: Fraction | int | QI = 6, seeds: dict[Site, Vec] | None = None
                  ) -> None:
-        self.E = Fraction(energy)
+        self.E = energy if isinstance(energy, QI) else Fraction(energy)
         if seeds is None:
             seeds = _seed_vecs("sc")
             seeds[(1, 0, 0)] = _vec(Fraction(1, 2), 0, Fraction(-1, 6))
@@ -245,8 +248,119 @@ class _SC:
         self.extent = extent
 
 
-def _frac_row(R: flint.fmpq_mat, row: int, nv: int, width: int) -> Vec:
-    return tuple(Fraction(int(R[row, nv + j].p), int(R[row, nv + j].q)) for j in range(width))
+@dataclass(frozen=True)
+class QI:
+    """A Gaussian rational re + i im: the field of the relations at a complex energy (just the
+    operations the solvers use)."""
+
+    re: Fraction
+    im: Fraction = Fraction(0)
+
+    def __add__(self, o: object) -> QI:
+        o = _qi(o)
+        return QI(self.re + o.re, self.im + o.im)
+
+    __radd__ = __add__
+
+    def __neg__(self) -> QI:
+        return QI(-self.re, -self.im)
+
+    def __sub__(self, o: object) -> QI:
+        return self + -_qi(o)
+
+    def __rsub__(self, o: object) -> QI:
+        return _qi(o) - self
+
+    def __mul__(self, o: object) -> QI:
+        o = _qi(o)
+        return QI(self.re * o.re - self.im * o.im, self.re * o.im + self.im * o.re)
+
+    __rmul__ = __mul__
+
+    def __bool__(self) -> bool:
+        return bool(self.re or self.im)
+
+    def __eq__(self, o: object) -> bool:
+        if isinstance(o, (int, Fraction, QI)):
+            q = _qi(o)
+            return self.re == q.re and self.im == q.im
+        return NotImplemented
+
+    def __hash__(self) -> int:
+        return hash((self.re, self.im))
+
+
+def _qi(x: object) -> QI:
+    if isinstance(x, QI):
+        return x
+    assert isinstance(x, (int, Fraction))
+    return QI(Fraction(x))
+
+
+def _fmpq(x: Fraction) -> flint.fmpq:
+    return flint.fmpq(x.numerator, x.denominator)
+
+
+def solve_rows(rows: list[tuple[dict[int, Any], Vec]], nv: int, W: int, what: str
+               ) -> dict[int, Vec]:
+    """Exact reduced row echelon form of the rows sum_k r[k] x_k = rhs (rhs a W-vector on
+    the caller's basis; entries rational or Gaussian rational, QI); the vectors of the
+    unknowns the system determines (pivot rows free of free columns).  Gaussian-rational
+    systems are realified: x = u + i v, each row split into its real and imaginary parts,
+    the W right-hand columns solved at once.  ArithmeticError if inconsistent."""
+    cplx = any(isinstance(v, QI) for r, c in rows for v in (*r.values(), *c))
+    n = 2 * nv if cplx else nv
+    M = flint.fmpq_mat(len(rows) * (2 if cplx else 1), n + W)
+    for a, (r, c) in enumerate(rows):
+        if not cplx:
+            for k, v in r.items():
+                if v:
+                    M[a, k] = _fmpq(v)
+            for j in range(W):
+                if c[j]:
+                    M[a, nv + j] = _fmpq(c[j])
+            continue
+        for part in (0, 1):  # real, imaginary part of the row
+            row = 2 * a + part
+            for k, v in r.items():
+                q = _qi(v)
+                # Re(q x) = q.re u - q.im v,  Im(q x) = q.im u + q.re v
+                cu, cv = (q.re, -q.im) if part == 0 else (q.im, q.re)
+                if cu:
+                    M[row, 2 * k] = _fmpq(cu)
+                if cv:
+                    M[row, 2 * k + 1] = _fmpq(cv)
+            for j in range(W):
+                x = _qi(c[j])
+                y = x.re if part == 0 else x.im
+                if y:
+                    M[row, n + j] = _fmpq(y)
+    R, rank = M.rref()
+    pivots: dict[int, int] = {}
+    for row in range(rank):
+        col = next(k for k in range(n + W) if R[row, k] != 0)
+        if col >= n:
+            raise ArithmeticError(f"{what}: inconsistent system")
+        pivots[col] = row
+    free = [k for k in range(n) if k not in pivots]
+
+    def value(col: int) -> Vec | None:
+        prow = pivots.get(col)
+        if prow is None or any(R[prow, f] != 0 for f in free):
+            return None
+        return tuple(Fraction(int(R[prow, n + j].p), int(R[prow, n + j].q)) for j in range(W))
+
+    out: dict[int, Vec] = {}
+    for k in range(nv):
+        if not cplx:
+            v = value(k)
+            if v is not None:
+                out[k] = v
+            continue
+        u, w = value(2 * k), value(2 * k + 1)
+        if u is not None and w is not None:
+            out[k] = tuple(QI(x, y) for x, y in zip(u, w, strict=True))
+    return out
 
 
 def _on_layer(layer: int) -> Callable[[Site], bool]:
@@ -258,11 +372,12 @@ class _Layered:
     energy ``energy`` (z at the band edge; (L) and (E1) hold at every E) from ``seeds`` at
     0 and the two sites of SEEDS, given as vectors on a basis whose constant 1 is ``unit``."""
 
-    def __init__(self, lattice: str, energy: Fraction | int | None = None,
+    def __init__(self, lattice: str, energy: Fraction | int | QI | None = None,
                  seeds: dict[Site, Vec] | None = None, unit: Vec = UNIT) -> None:
         self.lat: Lattice = LATTICE[lattice]
         self.name = lattice
-        self.E = Fraction(self.lat.z if energy is None else energy)
+        self.E = energy if isinstance(energy, QI) else Fraction(
+            self.lat.z if energy is None else energy)
         self.seeds = _seed_vecs(lattice) if seeds is None else seeds
         self.unit = unit
         self.zero: Vec = tuple(Fraction(0) for _ in unit)
@@ -281,9 +396,9 @@ class _Layered:
             if any(s):
                 idx[("L", s)] = len(idx)
         nv = len(idx)
-        rows: list[tuple[dict[int, Fraction], Vec]] = []
+        rows: list[tuple[dict[int, Any], Vec]] = []
         for s in eq_sites:
-            r: dict[int, Fraction] = {}
+            r: dict[int, Any] = {}
             rhs = self.unit if not any(s) else self.zero
             terms = [(z, s)] + [(-1, _canon((s[0] + e[0], s[1] + e[1], s[2] + e[2])))
                                 for e in nb]
@@ -308,29 +423,14 @@ class _Layered:
                             k = idx[("G", t)]
                             r[k] = r.get(k, Fraction(0)) - e[i]
                 rows.append((r, rhs))
-        M = flint.fmpq_mat(len(rows), nv + W)
-        for a, (r, c) in enumerate(rows):
-            for k, v in r.items():
-                if v:
-                    M[a, k] = flint.fmpq(v.numerator, v.denominator)
-            for j in range(W):
-                if c[j]:
-                    M[a, nv + j] = flint.fmpq(c[j].numerator, c[j].denominator)
-        R, rank = M.rref()
-        pivots: dict[int, int] = {}
-        for row in range(rank):
-            col = next(k for k in range(nv + W) if R[row, k] != 0)
-            if col >= nv:
-                raise ArithmeticError(f"{self.name}: inconsistent system")
-            pivots[col] = row
-        free = [k for k in range(nv) if k not in pivots]
+        got = solve_rows(rows, nv, W, self.name)
         for s in unknown:
             if not keep(s):
                 continue
-            prow = pivots.get(idx[("G", s)])
-            if prow is None or any(R[prow, f] != 0 for f in free):
+            v = got.get(idx[("G", s)])
+            if v is None:
                 raise ArithmeticError(f"{self.name} site {s} is not determined")
-            self.G[s] = _frac_row(R, prow, nv, W)
+            self.G[s] = v
 
     def grow(self, extent: int) -> None:
         if extent <= self.extent:

@@ -1,7 +1,8 @@
-"""Exact forms of the cubic lattices' G(E; r) at a real rational energy E, off the band or
-on it (E + i0), through G(E; 0) and its first two derivatives in E.
+"""Exact forms of the cubic lattices' G(E; r) at an exact energy E (rational, on the band
+E + i0, or Gaussian rational with Im E > 0), through G(E; 0) and its first two derivatives.
 
-Every G(E; r) is  a + b G0 + c G0' + d G0''  with rationals a, b, c, d (depending on E and r)
+Every G(E; r) is  a + b G0 + c G0' + d G0''  with a, b, c, d in Q(E) (rationals for real E,
+Gaussian rationals for complex E; depending on E and r)
 and G0 = G(E; 0), G0' = dG(E; 0)/dE, G0'' = d^2 G(E; 0)/dE^2 (``derived``: no identified
 value enters).  The relations (the band-edge versions are in ``exact/cubic.py``; all of them
 hold at every E off the band, and on it for E + i0 wherever G0' and G0'' are finite):
@@ -18,7 +19,8 @@ finite system on a region leaves three values free (G0 and two more: at the band
 are the two *identified* seeds of ``exact/cubic.py``).  With the derivatives, the system of
 (L_j), (E_j), j = 0, 1, 2, on the canonical sites of a small region (unknowns G^(j) one layer
 further out, L on the region) determines every G^(j)(s) once G^(j)(0), j = 0, 1, 2, are given:
-python-flint's exact rref over Q reports full column rank.  We solve it once per energy for
+python-flint's exact rref over Q reports full column rank (at a complex E the system over
+Q(i) is realified, ``exact/cubic.solve_rows``).  We solve it once per energy for
 the two sites that the band-edge recursions take as seeds (sc: (1,1,0), (1,1,1); bcc:
 (2,0,0), (2,2,0); fcc: (2,0,0), (2,1,1)); every solve checks that each needed value is
 determined and that the system is consistent, and refuses otherwise.  The rest of the table
@@ -28,7 +30,7 @@ march (E1) + (C3), the bcc/fcc layered solves of (L) + (E1)) on the basis (1, G0
 G0, G0', G0'' are certified balls (``methods/cubic_green_closed.origin_jet``: the closed
 forms in power-series arithmetic).  Excluded energies, where a derivative is infinite or the
 closed form has a removable singularity: the band edges, the van Hove points (sc +-2, fcc 0),
-E = 0 and, for bcc, E = 0 and fcc E = -4 (G itself diverges).
+E = 0 (and there bcc, like fcc at E = -4, diverges itself).  Complex energies have none.
 
 The coefficients grow with the distance while G decays, so the evaluation cancels digits:
 the working precision follows the coefficient sizes (``start_bits``), and the ball arithmetic
@@ -39,14 +41,17 @@ from __future__ import annotations
 
 from collections import OrderedDict
 from fractions import Fraction
+from typing import Any
 
 import flint
 
+from ..energy import Energy
 from ..lattices import Site
-from .cubic import _SC, LATTICE, _canon, _Layered
+from .cubic import _SC, LATTICE, QI, _canon, _Layered, solve_rows
 from .square_green import GreenForm
 
-Vec = tuple[Fraction, ...]  # coefficients of (1, G0, G0', G0'')
+Vec = tuple[Any, ...]  # coefficients of (1, G0, G0', G0''): Fractions, or QI at complex E
+Field = Fraction | QI  # an exact energy: rational, or Gaussian rational (Im E > 0)
 UNIT: Vec = (Fraction(1), Fraction(0), Fraction(0), Fraction(0))
 NAMES = ("G0", "dG0", "d2G0")
 EXCLUDED = {"sc": (-6, -2, 0, 2, 6), "bcc": (-8, 0, 8), "fcc": (-4, 0, 12)}
@@ -54,9 +59,15 @@ SEED_SITES = {"sc": ((1, 1, 0), (1, 1, 1)), "bcc": ((2, 0, 0), (2, 2, 0)),
               "fcc": ((2, 0, 0), (2, 1, 1))}
 
 
-def available(lattice: str, E: Fraction) -> bool:
-    """True if the exact forms are offered at the real energy E (module docstring)."""
-    return E not in EXCLUDED[lattice]
+def available(lattice: str, E: Field) -> bool:
+    """True if the exact forms are offered at E (module docstring): every complex energy and
+    the real ones other than EXCLUDED."""
+    return isinstance(E, QI) or E not in EXCLUDED[lattice]
+
+
+def field(E: Energy) -> Field:
+    """The energy as an element of the field the relations live in."""
+    return E.re if E.im == 0 else QI(E.re, E.im)
 
 
 def _basis_vec(j: int) -> Vec:
@@ -65,7 +76,7 @@ def _basis_vec(j: int) -> Vec:
     return tuple(v)
 
 
-def _solve_block(lattice: str, E: Fraction, N: int) -> dict[Site, Vec] | None:
+def _solve_block(lattice: str, E: Field, N: int) -> dict[Site, Vec] | None:
     """The system (L_j), (E_j), j = 0, 1, 2 on the canonical sites of extent N (module
     docstring); the vectors of SEED_SITES, or None if one of them is not determined.
     ArithmeticError if the system is inconsistent (a wrong relation)."""
@@ -73,11 +84,11 @@ def _solve_block(lattice: str, E: Fraction, N: int) -> dict[Site, Vec] | None:
     nb = lat.neighbours
     fixed = {("G", j, (0, 0, 0)): _basis_vec(j) for j in range(3)}
     idx: dict[tuple[str, int, Site], int] = {}
-    rows: list[tuple[dict[int, Fraction], Vec]] = []
+    rows: list[tuple[dict[int, Any], Vec]] = []
     zero: Vec = (Fraction(0),) * 4
 
-    def add(terms: list[tuple[Fraction, tuple[str, int, Site]]], rhs: Vec) -> None:
-        r: dict[int, Fraction] = {}
+    def add(terms: list[tuple[Any, tuple[str, int, Site]]], rhs: Vec) -> None:
+        r: dict[int, Any] = {}
         for c, key in terms:
             if key in fixed:
                 rhs = tuple(x - c * y for x, y in zip(rhs, fixed[key], strict=True))
@@ -99,34 +110,17 @@ def _solve_block(lattice: str, E: Fraction, N: int) -> dict[Site, Vec] | None:
                 x = ("L", 0, s) if j == 0 else ("G", j - 1, s)
                 add([(Fraction(s[i]), x)] + [(Fraction(-e[i]), ("G", j, t))
                                              for e, t in shifted if e[i]], zero)
-    nv = len(idx)
-    M = flint.fmpq_mat(len(rows), nv + 4)
-    for a, (r, rhs) in enumerate(rows):
-        for k, v in r.items():
-            if v:
-                M[a, k] = flint.fmpq(v.numerator, v.denominator)
-        for j, v in enumerate(rhs):
-            if v:
-                M[a, nv + j] = flint.fmpq(v.numerator, v.denominator)
-    R, rank = M.rref()
-    pivots: dict[int, int] = {}
-    for row in range(rank):
-        col = next(k for k in range(nv + 4) if R[row, k] != 0)
-        if col >= nv:
-            raise ArithmeticError(f"{lattice} at E = {E}: inconsistent system")
-        pivots[col] = row
-    free = [k for k in range(nv) if k not in pivots]
+    got = solve_rows(rows, len(idx), 4, f"{lattice} at E = {E}")
     out: dict[Site, Vec] = {}
     for s in SEED_SITES[lattice]:
-        prow = pivots.get(idx[("G", 0, s)])
-        if prow is None or any(R[prow, f] != 0 for f in free):
+        v = got.get(idx[("G", 0, s)])
+        if v is None:
             return None
-        out[s] = tuple(Fraction(int(R[prow, nv + j].p), int(R[prow, nv + j].q))
-                       for j in range(4))
+        out[s] = v
     return out
 
 
-def seed_vectors(lattice: str, E: Fraction) -> dict[Site, Vec]:
+def seed_vectors(lattice: str, E: Field) -> dict[Site, Vec]:
     """G at the origin, (sc) the neighbour, and the two seed sites on the basis
     (1, G0, G0', G0''); ArithmeticError where the system does not determine them."""
     if not available(lattice, E):
@@ -139,14 +133,14 @@ def seed_vectors(lattice: str, E: Fraction) -> dict[Site, Vec]:
         raise ArithmeticError(f"{lattice} at E = {E}: the seeds are not determined")
     seeds: dict[Site, Vec] = {(0, 0, 0): _basis_vec(0), **got}
     if lattice == "sc":
-        seeds[(1, 0, 0)] = (Fraction(-1, 6), E / 6, Fraction(0), Fraction(0))
+        seeds[(1, 0, 0)] = (Fraction(-1, 6), E * Fraction(1, 6), Fraction(0), Fraction(0))
     return seeds
 
 
-_CACHE: OrderedDict[tuple[str, Fraction], _SC | _Layered] = OrderedDict()
+_CACHE: OrderedDict[tuple[str, Field], _SC | _Layered] = OrderedDict()
 
 
-def green_vectors(lattice: str, E: Fraction, extent: int) -> dict[Site, Vec]:
+def green_vectors(lattice: str, E: Field, extent: int) -> dict[Site, Vec]:
     """G(E; s) on the basis (1, G0, G0', G0'') for every canonical site with first coordinate
     up to ``extent`` (grown on demand; the last four energies are kept; do not modify).
 
@@ -167,29 +161,38 @@ def green_vectors(lattice: str, E: Fraction, extent: int) -> dict[Site, Vec]:
     return t.G
 
 
-def green_form(lattice: str, E: Fraction, site: Site) -> GreenForm:
+def green_form(lattice: str, E: Field, site: Site) -> GreenForm:
     """The exact form of G(E; site), canonical site, printed as a*G0 + b*dG0 + c*d2G0 + d.
 
     >>> str(green_form("sc", Fraction(7), (1, 0, 0)))
     '7/6*G0 - 1/6'
     """
-    v = green_vectors(lattice, E, site[0])[site]
-    z = Fraction(0)
-    return GreenForm(((v[1], z), (v[2], z), (v[3], z), (v[0], z)), "derived", NAMES)
+    v = [_pair(x) for x in green_vectors(lattice, E, site[0])[site]]
+    return GreenForm((v[1], v[2], v[3], v[0]), "derived", NAMES)
+
+
+def _pair(x: Any) -> tuple[Fraction, Fraction]:
+    return (x.re, x.im) if isinstance(x, QI) else (Fraction(x), Fraction(0))
 
 
 def start_bits(v: Vec, digits: int) -> int:
     """Working precision for a + b G0 + c G0' + d G0'' at ``digits`` digits: the digits, the
     largest coefficient (what the cancellation can cost) and a guard."""
-    size = max(x.numerator.bit_length() - x.denominator.bit_length() for x in v if x)
+    size = max(p.numerator.bit_length() - p.denominator.bit_length()
+               for x in v for p in _pair(x) if p)
     return int(digits * 3.33) + max(size, 0) + 64
 
 
 def ball(v: Vec, jet: list[flint.acb]) -> flint.acb:
     """a + b G0 + c G0' + d G0'' from the balls ``jet`` = [G0, G0', G0''] at the caller's
     precision."""
-    acc = flint.acb(flint.fmpq(v[0].numerator, v[0].denominator))
+    def c(x: Any) -> flint.acb:
+        re, im = _pair(x)
+        return flint.acb(flint.fmpq(re.numerator, re.denominator),
+                         flint.fmpq(im.numerator, im.denominator))
+
+    acc = c(v[0])
     for x, g in zip(v[1:], jet, strict=True):
         if x:
-            acc += flint.fmpq(x.numerator, x.denominator) * g
+            acc += c(x) * g
     return acc

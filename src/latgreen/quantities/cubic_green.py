@@ -12,23 +12,23 @@ independent methods every time, or a one-line InputError):
   reduced 2-D rule outside it.
 * The nearest neighbour z: G = (E G(E; 0) - 1)/z, the lattice equation at the origin (all z
   neighbours are equivalent), as a ball from the same closed form; same checks.
-* Other sites (coordinates up to 60) at a real energy other than the band edges, the van
+* Other sites (coordinates up to 60) at every energy other than the band edges, the van
   Hove points and 0 (``recurrence_ok``): the exact form a + b G0 + c G0' + d G0''
   (``exact/cubic_energy.py``) as a certified ball, confirmed by the 1-D integral (sc, bcc),
   the nested per-site integral (``methods/fcc_green_sites.py``, fcc inside the band) or the
   reduced 2-D rule (fcc outside it).
-* Other sites at complex energies or the excluded real ones: the 1-D integral rounded with
+* Other sites at the excluded real energies: the 1-D integral rounded with
   10 guard digits (the error bound is an estimate, said in ``notes``), confirmed by the
   time-domain Bessel integral (``methods/sc_green_bessel.py``; sc, coordinates up to 12, any
   energy) or else by the reduced 2-D rule (``methods/cubic_quadrature.green_energy_quad``;
   off the band only).  Refused (one method only): sc sites with a coordinate above 12 at the
-  van Hove points, fcc sites beyond the nearest neighbour at complex energies.
+  van Hove points, fcc sites beyond the nearest neighbour at E = 0, 12.
 * dos(E) = -Im G(E + i0; 0)/pi: the closed form's ball, confirmed by the 1-D integral (sc,
   bcc) or the nested R_F integral (fcc); 0 outside the band and at its edges.
 * local_dos(E; r): the origin and the nearest neighbour as dos; other sites inside the band
   from the exact form (confirmed as for green), or at the sc van Hove points from the 1-D
   integral confirmed by the Bessel integral; 0 outside the band.
-* Tables at one energy (``CubicGreen``): at a real energy with exact forms, every row its
+* Tables at one energy (``CubicGreen``): where exact forms exist, every row its
   exact form (extent up to 20), checked by the second method above; otherwise sc at any
   energy and bcc off the band, extent up to 12, every row checked by the Bessel integral
   (sc) or the 2-D rule (bcc).
@@ -301,9 +301,9 @@ REC_BASIS = ("G0 = G(E;0) by the closed form (" + "{closed}" + "); dG0, d2G0 = i
 
 
 def recurrence_ok(lattice: str, E: Energy) -> bool:
-    """The exact forms a + b G0 + c G0' + d G0'' (exact/cubic_energy.py) are offered: real E,
-    not a band edge, van Hove point or E = 0."""
-    return E.im == 0 and cubic_energy.available(lattice, E.re)
+    """The exact forms a + b G0 + c G0' + d G0'' (exact/cubic_energy.py) are offered: every
+    energy but the band edges, the van Hove points and E = 0."""
+    return cubic_energy.available(lattice, cubic_energy.field(E))
 
 
 def _rec_ball(lattice: str, v: Any, E: Energy, bits: int) -> Any:
@@ -321,7 +321,7 @@ def _rec_ball(lattice: str, v: Any, E: Energy, bits: int) -> Any:
 def recurrence_value(lattice: str, c: Site, E: Energy, digits: int) -> ComplexRounded:
     """G(E; c), canonical c, from its exact form as a certified ball (each component
     correctly rounded, or exactly 0 by symmetry)."""
-    v = cubic_energy.green_vectors(lattice, E.re, c[0])[c]
+    v = cubic_energy.green_vectors(lattice, cubic_energy.field(E), c[0])[c]
     return certify_complex(lambda bits: _rec_ball(lattice, v, E, bits),
                            cubic_energy.start_bits(v, digits), digits,
                            zero_parts(lattice, E, c), f"{lattice} G({E};{c})")
@@ -329,7 +329,7 @@ def recurrence_value(lattice: str, c: Site, E: Energy, digits: int) -> ComplexRo
 
 def check_value(lattice: str, c: Site, E: Energy, digits: int
                 ) -> tuple[str, str, tuple[Fraction, Fraction]]:
-    """The independent check of the exact form at a real energy: (method, text, value):
+    """The independent check of the exact form: (method, text, value):
     the 1-D integral (sc, bcc), the nested per-site integral (fcc inside the band) or the
     reduced 2-D rule (fcc outside it)."""
     if lattice != "fcc":
@@ -348,7 +348,7 @@ def _site_exact(lattice: str, s: Site, c: Site, E: Energy, digits: int) -> Green
     if agree < digits:
         raise VerificationError(f"{lattice} G({E}; {c}): exact form and {text} agree to "
                                 f"only {agree} of {digits} digits")
-    form = cubic_energy.green_form(lattice, E.re, c)
+    form = cubic_energy.green_form(lattice, cubic_energy.field(E), c)
     return GreenResult(lattice, s, c, E, digits, str(v.re), str(v.im), form,
                        v.re.half_ulp(), v.im.half_ulp(), _modulus_bound([v.re, v.im]),
                        ("recurrence", name), agree,
@@ -379,15 +379,14 @@ def _refuse_one_method(lattice: str, c: Site, E: Energy, what: str = "G(E; r)") 
         return
     if lattice == "fcc":
         raise InputError(f"fcc {what} beyond the nearest neighbour (1, 1, 0) at E = {E}: "
-                         "offered at real energies other than " +
+                         "offered at every energy other than " +
                          ", ".join(str(x) for x in cubic_energy.EXCLUDED["fcc"]) +
                          " (exact forms and a second method exist only there)")
     where = f"with a coordinate above {BESSEL_MAX} " if lattice == "sc" else ""
     raise InputError(f"{lattice} {what} at E = {E} beyond the nearest neighbour "
                      f"{NEIGHBOUR[lattice]} {where}has one method here (the 1-D integral) and "
-                     "no independent check: ask at a real energy other than " +
-                     ", ".join(str(x) for x in cubic_energy.EXCLUDED[lattice]) +
-                     " or at a complex one off the band")
+                     "no independent check: ask at any energy other than " +
+                     ", ".join(str(x) for x in cubic_energy.EXCLUDED[lattice]))
 
 
 def _site(lattice: str, s: Site, c: tuple[int, int, int], E: Energy,
@@ -512,7 +511,7 @@ def _local_dos_exact(lattice: str, s: Site, c: Site, E: Energy, digits: int) -> 
         raise InputError(f"the {lattice} local DOS at {c}: at most {MAX_DIGITS_QUAD} digits")
     from flint import arb, ctx
 
-    v = cubic_energy.green_vectors(lattice, E.re, c[0])[c]
+    v = cubic_energy.green_vectors(lattice, cubic_energy.field(E), c[0])[c]
 
     def build(bits: int) -> Any:
         b = _rec_ball(lattice, v, E, bits)
@@ -534,8 +533,9 @@ def _local_dos_exact(lattice: str, s: Site, c: Site, E: Energy, digits: int) -> 
                                 f"{digits} digits")
     return Result(lattice, "local-dos", s, c, digits, str(r), None, r.half_ulp(),
                   ("recurrence", name), agree,
-                  notes=(f"-Im of the exact form {cubic_energy.green_form(lattice, E.re, c)}"
-                         ", divided by pi; " + REC_BASIS.format(closed=CLOSED_TEXT[lattice]),),
+                  notes=(f"-Im of the exact form "
+                         f"{cubic_energy.green_form(lattice, cubic_energy.field(E), c)}, "
+                         "divided by pi; " + REC_BASIS.format(closed=CLOSED_TEXT[lattice]),),
                   energy=str(E))
 
 
@@ -635,7 +635,7 @@ class CubicGreen(Provider):
             "check": self.check_text + " at full digits (of each component) for every row"}
         excl = ", ".join(str(x) for x in cubic_energy.EXCLUDED[lattice])
         if lattice == "fcc" and not self.exact:
-            raise InputError(f"an fcc green table needs a real energy other than {excl}: "
+            raise InputError(f"an fcc green table needs an energy other than {excl}: "
                              "elsewhere only the origin and the nearest neighbour have two "
                              "methods here")
         if lattice == "bcc" and _inside(lattice, energy) and not self.exact:
@@ -668,7 +668,7 @@ class CubicGreen(Provider):
     def form(self, c: Site) -> Any:
         name = self.lattice.name
         if self.exact:
-            return cubic_energy.green_form(name, self.energy.re, c)
+            return cubic_energy.green_form(name, cubic_energy.field(self.energy), c)
         how = ClosedForm(name).how
         if not any(c):
             return TableForm("G0", how)
