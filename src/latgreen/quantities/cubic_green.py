@@ -586,10 +586,10 @@ class TableForm:
 
 class CubicGreen(Provider):
     """sc / bcc / fcc x green bound to one energy.  Batches are the columns (l, m) of the
-    canonical region.  At a real energy where the exact forms a + b G0 + c G0' + d G0'' exist
-    (``recurrence_ok``) every row is its exact form as a certified ball, checked by the 1-D
-    integral (sc, bcc), the nested per-site integral (fcc inside the band) or the reduced 2-D
-    rule (fcc outside it).  Elsewhere (complex energies, the excluded real ones): the origin
+    canonical region.  Where the exact forms a + b G0 + c G0' + d G0'' exist
+    (``recurrence_ok``: all but the excluded real energies) every row is its exact form as a
+    certified ball, checked by the 1-D integral (sc, bcc), the nested per-site integral (fcc
+    inside the band) or the reduced 2-D rule (fcc outside it).  Elsewhere: the origin
     and the nearest neighbour from the closed form, every other site from the 1-D integral
     with 10 guard digits, checked by the Bessel integral (sc, extent up to 12) or the 2-D
     rule (bcc off the band); fcc refused."""
