@@ -221,7 +221,9 @@ def test_api_result_and_form():
     """``latgreen.green`` gives the exact form, says how it was made, and the printed form
     evaluates (sympy, with the jets for its names) to the printed value."""
     g = latgreen.green("sc", (3, 1, 0), energy="5/2", digits=30)
-    assert g.methods == ("recurrence", "integral") and g.exact.how == "derived"
+    # the coefficients are derived; the label is that of the closed form of G0 (sc: Joyce)
+    assert g.methods == ("recurrence", "integral")
+    assert g.exact.how == "from the literature (Joyce 1973)"
     assert "dG0 = " not in str(g.exact) and "dG0" in g.basis
     e = parse_energy("5/2", "sc")
     jet = [mp(x) for x in origin_jet("sc", e, 200)]
@@ -263,3 +265,28 @@ def test_exact_forms_at_complex_energies(lattice, E, site):
 def test_fcc_at_a_complex_energy_api():
     g = latgreen.green("fcc", (2, 1, 1), energy="3+4j", digits=25)
     assert g.methods == ("recurrence", "quadrature") and "*I" in str(g.exact)
+
+
+# ------------------------------------------------------------------ fcc inside the band
+
+@pytest.mark.parametrize(("E", "sites"), [("7/2", [(2, 1, 1), (4, 2, 2), (5, 3, 0)]),
+                                          ("-5/2", [(2, 0, 0), (3, 3, 2)]),
+                                          ("9", [(4, 1, 1)])])
+def test_fcc_exact_forms_vs_nested_site_integral(E, sites):
+    """E + i0 inside the fcc band: the exact forms against the nested per-site integral
+    (methods/fcc_green_sites.py, our independent method from the integral alone), 30
+    digits."""
+    from latgreen.methods.fcc_green_sites import fcc_green_sites
+
+    e = parse_energy(E, "fcc")
+    with mpmath.workdps(50):
+        qs = fcc_green_sites(e, sites, 32)
+        for s, q in zip(sites, qs, strict=True):
+            got = value("fcc", e.re, s, 300)
+            assert abs(got - q) < mpmath.mpf(10) ** -30 * abs(q), s
+
+
+def test_fcc_green_api_inside_the_band():
+    g = latgreen.green("fcc", (3, 1, 0), energy="7/2", digits=25)
+    assert g.methods == ("recurrence", "integral") and g.exact.how == "identified"
+    assert any("identified" in n for n in g.notes)  # the prefactor of the fcc G0

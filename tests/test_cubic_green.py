@@ -482,7 +482,7 @@ def test_green_table_inside_the_band(tmp_path):
     assert r.returncode == 0, r.stderr
     rows = [ln.split(",") for ln in (out / "values.csv").read_text().splitlines()[1:]]
     assert len(rows) == 8 and all(x[9] == "recurrence;integral" for x in rows)
-    assert all(x[6] == "derived" and int(x[10]) >= 20 for x in rows)
+    assert all(x[6] == "derived" and int(x[10]) >= 20 for x in rows)  # bcc: G0 derived
     assert rows[0][5] == "G0" and rows[1][5] == "3/8*G0 - 1/8"  # (E G0 - 1)/8 at E = 3
     g = latgreen.green("bcc", (3, 3, 1), energy="3", digits=20)
     row = next(x for x in rows if x[:3] == ["3", "3", "1"])

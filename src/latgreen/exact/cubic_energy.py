@@ -161,14 +161,16 @@ def green_vectors(lattice: str, E: Field, extent: int) -> dict[Site, Vec]:
     return t.G
 
 
-def green_form(lattice: str, E: Field, site: Site) -> GreenForm:
-    """The exact form of G(E; site), canonical site, printed as a*G0 + b*dG0 + c*d2G0 + d.
+def green_form(lattice: str, E: Field, site: Site, how: str = "derived") -> GreenForm:
+    """The exact form of G(E; site), canonical site, printed as a*G0 + b*dG0 + c*d2G0 + d;
+    ``how`` is the caller's label (the coefficients are derived; the closed form of G0 that
+    gives the names their values may not be).
 
     >>> str(green_form("sc", Fraction(7), (1, 0, 0)))
     '7/6*G0 - 1/6'
     """
     v = [_pair(x) for x in green_vectors(lattice, E, site[0])[site]]
-    return GreenForm((v[1], v[2], v[3], v[0]), "derived", NAMES)
+    return GreenForm((v[1], v[2], v[3], v[0]), how, NAMES)
 
 
 def _pair(x: Any) -> tuple[Fraction, Fraction]:

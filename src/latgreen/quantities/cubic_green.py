@@ -55,6 +55,7 @@ from ..methods.cubic_green_closed import origin_ball, origin_jet
 from ..methods.cubic_green_integral import green_integral
 from ..methods.cubic_quadrature import green_energy_quad
 from ..methods.fcc_green_nested import green_fcc_nested
+from ..methods.fcc_green_sites import fcc_green_sites
 from ..methods.sc_green_bessel import MAX_ORDER as BESSEL_MAX
 from ..methods.sc_green_bessel import green_bessel
 from ..rounding import ZERO, Rounded, agreement_digits, round_interval
@@ -287,11 +288,25 @@ def integral_check(lattice: str, c: Site, E: Energy, digits: int) -> tuple[Fract
 
 def fcc_sites_check(c: Site, E: Energy, digits: int) -> tuple[Fraction, Fraction]:
     """fcc, real E inside the band: the per-site nested integral."""
-    from ..methods.fcc_green_sites import fcc_green_sites
+    return fcc_sites_many([c], E, digits)[0]
 
-    c3 = (c[0], c[1], c[2])
-    return _method_value("fcc", c, E, digits,
-                         lambda d: fcc_green_sites(E, [c3], d)[0])
+
+def fcc_sites_many(sites: list[Site], E: Energy, digits: int) -> list[tuple[Fraction, Fraction]]:
+    """fcc, real E inside the band: the nested integral at all ``sites`` in one pass over its
+    nodes (its accuracy is relative to the largest |G|, so a 15-digit scouting pass says how
+    many more digits the smallest component needs)."""
+    c3 = [(c[0], c[1], c[2]) for c in sites]
+    with mpmath.workdps(30):
+        scout = fcc_green_sites(E, c3, 15)
+        big = max(abs(g) for g in scout)
+        small = min((abs(x) for g, c in zip(scout, sites, strict=True)
+                     for x, zz in zip((g.real, g.imag), zero_parts("fcc", E, c), strict=True)
+                     if not zz), default=big)
+        extra = max(0, int(mpmath.ceil(mpmath.log10(big / small)))) if small else 30
+    dps = digits + extra + 3
+    with mpmath.workdps(dps + 20):
+        return [(_frac(mpmath.re(g)), _frac(mpmath.im(g)))
+                for g in fcc_green_sites(E, c3, dps)]
 
 
 # ------------------------------------------------ exact forms through G0, G0', G0''
@@ -348,7 +363,8 @@ def _site_exact(lattice: str, s: Site, c: Site, E: Energy, digits: int) -> Green
     if agree < digits:
         raise VerificationError(f"{lattice} G({E}; {c}): exact form and {text} agree to "
                                 f"only {agree} of {digits} digits")
-    form = cubic_energy.green_form(lattice, cubic_energy.field(E), c)
+    form = cubic_energy.green_form(lattice, cubic_energy.field(E), c,
+                                   ClosedForm(lattice).how)
     return GreenResult(lattice, s, c, E, digits, str(v.re), str(v.im), form,
                        v.re.half_ulp(), v.im.half_ulp(), _modulus_bound([v.re, v.im]),
                        ("recurrence", name), agree,
@@ -668,7 +684,8 @@ class CubicGreen(Provider):
     def form(self, c: Site) -> Any:
         name = self.lattice.name
         if self.exact:
-            return cubic_energy.green_form(name, cubic_energy.field(self.energy), c)
+            return cubic_energy.green_form(name, cubic_energy.field(self.energy), c,
+                                           ClosedForm(name).how)
         how = ClosedForm(name).how
         if not any(c):
             return TableForm("G0", how)
@@ -699,6 +716,8 @@ class CubicGreen(Provider):
 
     def quad_sites(self, sites: list[Site], digits: int) -> list:
         name, E = self.lattice.name, self.energy
+        if self.exact and name == "fcc" and _inside(name, E):
+            return fcc_sites_many(sites, E, digits)
         if self.exact:
             return [check_value(name, c, E, digits)[2] for c in sites]
         return [_second(name, c, E, digits)[2] for c in sites]
