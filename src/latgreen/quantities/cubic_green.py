@@ -451,6 +451,22 @@ def _green(lattice: str) -> Any:
     return green
 
 
+def _minus_im_over_pi(ball: Any) -> Any:
+    """bits -> -Im(ball(bits))/pi, the density from a G ball at the same precision."""
+    from flint import arb, ctx
+
+    def build(bits: int) -> Any:
+        b = ball(bits)
+        old = ctx.prec
+        try:
+            ctx.prec = bits + 30
+            return -b.imag / arb.pi()
+        finally:
+            ctx.prec = old
+
+    return build
+
+
 def _zero_result(lattice: str, quantity: str, s: Site, c: Site, E: Energy,
                  digits: int) -> Result:
     lo, hi = get_lattice(lattice).band
@@ -469,16 +485,7 @@ def _density(lattice: str, quantity: str, s: Site, E: Energy, digits: int,
                          "confirming quadrature grows too costly beyond)")
     if not _inside(lattice, E):
         return _zero_result(lattice, quantity, s, c, E, digits)
-    from flint import arb, ctx
-
-    def build(bits: int) -> Any:
-        b = _ball(lattice, c, E, bits)
-        old = ctx.prec
-        try:
-            ctx.prec = bits + 30
-            return -b.imag / arb.pi()
-        finally:
-            ctx.prec = old
+    build = _minus_im_over_pi(lambda bits: _ball(lattice, c, E, bits))
 
     r, centre = _certify_real(build, _start_bits(digits) + 64, digits,
                               f"the {quantity} at E = {E}")
@@ -525,18 +532,8 @@ def _local_dos_exact(lattice: str, s: Site, c: Site, E: Energy, digits: int) -> 
     ``check_value``."""
     if digits > MAX_DIGITS_QUAD:
         raise InputError(f"the {lattice} local DOS at {c}: at most {MAX_DIGITS_QUAD} digits")
-    from flint import arb, ctx
-
     v = cubic_energy.green_vectors(lattice, cubic_energy.field(E), c[0])[c]
-
-    def build(bits: int) -> Any:
-        b = _rec_ball(lattice, v, E, bits)
-        old = ctx.prec
-        try:
-            ctx.prec = bits + 30
-            return -b.imag / arb.pi()
-        finally:
-            ctx.prec = old
+    build = _minus_im_over_pi(lambda bits: _rec_ball(lattice, v, E, bits))
 
     what = f"the {lattice} local DOS at E = {E}, site {c}"
     r, centre = _certify_real(build, cubic_energy.start_bits(v, digits), digits, what)
