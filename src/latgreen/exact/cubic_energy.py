@@ -47,6 +47,7 @@ import flint
 
 from ..energy import Energy
 from ..lattices import Site
+from ..methods.cubic_green_closed import JET_EXCLUDED
 from .cubic import _SC, LATTICE, QI, _canon, _Layered, solve_rows
 from .square_green import GreenForm
 
@@ -54,7 +55,7 @@ Vec = tuple[Any, ...]  # coefficients of (1, G0, G0', G0''): Fractions, or QI at
 Field = Fraction | QI  # an exact energy: rational, or Gaussian rational (Im E > 0)
 UNIT: Vec = (Fraction(1), Fraction(0), Fraction(0), Fraction(0))
 NAMES = ("G0", "dG0", "d2G0")
-EXCLUDED = {"sc": (-6, -2, 0, 2, 6), "bcc": (-8, 0, 8), "fcc": (-4, 0, 12)}
+EXCLUDED = JET_EXCLUDED  # where the jet of G(E; 0) does not exist
 SEED_SITES = {"sc": ((1, 1, 0), (1, 1, 1)), "bcc": ((2, 0, 0), (2, 2, 0)),
               "fcc": ((2, 0, 0), (2, 1, 1))}
 
@@ -182,7 +183,8 @@ def start_bits(v: Vec, digits: int) -> int:
     largest coefficient (what the cancellation can cost) and a guard."""
     size = max(p.numerator.bit_length() - p.denominator.bit_length()
                for x in v for p in _pair(x) if p)
-    return int(digits * 3.33) + max(size, 0) + 64
+    bits = int(digits * 3.33) + max(size, 0) + 64
+    return -(-bits // 64) * 64  # a multiple of 64: rows of a table share the jet's precision
 
 
 def ball(v: Vec, jet: list[flint.acb]) -> flint.acb:

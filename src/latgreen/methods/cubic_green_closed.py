@@ -226,6 +226,11 @@ def dos_ball(lattice: str, x: Fraction, prec: int) -> arb:
         ctx.prec = old
 
 
+# real energies where G0' or G0'' is infinite (band edges, van Hove points) or the closed form
+# has a removable singularity (E = 0)
+JET_EXCLUDED = {"sc": (-6, -2, 0, 2, 6), "bcc": (-8, 0, 8), "fcc": (-4, 0, 12)}
+
+
 def origin_jet(lattice: str, E: Energy, prec: int, order: int = 3) -> list[acb]:
     """G(E; 0) and its first ``order - 1`` derivatives in E, [G, G', G'', ...], as acb balls
     at about ``prec`` bits: the closed forms above evaluated in power-series arithmetic
@@ -243,8 +248,7 @@ def origin_jet(lattice: str, E: Energy, prec: int, order: int = 3) -> list[acb]:
     >>> g[1].real.str(10, radius=False)
     '-0.02260199923'
     """
-    bad = {"sc": (-6, -2, 0, 2, 6), "bcc": (-8, 0, 8), "fcc": (-4, 0, 12)}[lattice]
-    if E.im == 0 and E.re in bad:
+    if E.im == 0 and E.re in JET_EXCLUDED[lattice]:
         raise ValueError(f"the derivatives of the {lattice} G(E; 0) are not finite (or the "
                          f"closed form is singular) at E = {E}")
     old = ctx.prec

@@ -321,10 +321,16 @@ def recurrence_ok(lattice: str, E: Energy) -> bool:
     return cubic_energy.available(lattice, cubic_energy.field(E))
 
 
+@functools.lru_cache(maxsize=32)
+def _jet(lattice: str, E: Energy, bits: int) -> Any:
+    """G0, G0', G0'' at E (shared by every row of a table at that precision)."""
+    return origin_jet(lattice, E, bits)
+
+
 def _rec_ball(lattice: str, v: Any, E: Energy, bits: int) -> Any:
     from flint import ctx
 
-    jet = origin_jet(lattice, E, bits)
+    jet = _jet(lattice, E, bits)
     old = ctx.prec
     try:
         ctx.prec = bits + 30
@@ -342,17 +348,26 @@ def recurrence_value(lattice: str, c: Site, E: Energy, digits: int) -> ComplexRo
                            zero_parts(lattice, E, c), f"{lattice} G({E};{c})")
 
 
+def check_method(lattice: str, E: Energy) -> tuple[str, str]:
+    """(name, text) of the independent check of the exact forms at E: the 1-D integral (sc,
+    bcc), the nested per-site integral (fcc inside the band) or the reduced 2-D rule (fcc
+    outside it)."""
+    if lattice != "fcc":
+        return "integral", "the 1-D integral over k3 of the square lattice's closed form"
+    if _inside(lattice, E):
+        return "integral", "the nested per-site integral (methods/fcc_green_sites.py)"
+    return "quadrature", "the reduced 2-D polar Gauss-Legendre rule"
+
+
 def check_value(lattice: str, c: Site, E: Energy, digits: int
                 ) -> tuple[str, str, tuple[Fraction, Fraction]]:
-    """The independent check of the exact form: (method, text, value):
-    the 1-D integral (sc, bcc), the nested per-site integral (fcc inside the band) or the
-    reduced 2-D rule (fcc outside it)."""
+    """The independent check of the exact form (``check_method``): (name, text, value)."""
+    name, text = check_method(lattice, E)
     if lattice != "fcc":
-        return "integral", "the 1-D integral over k3", integral_check(lattice, c, E, digits)
+        return name, text, integral_check(lattice, c, E, digits)
     if _inside(lattice, E):
-        return ("integral", "the nested per-site integral (methods/fcc_green_sites.py)",
-                fcc_sites_check(c, E, digits))
-    return "quadrature", "the reduced 2-D rule", quad_value(lattice, c, E, digits)
+        return name, text, fcc_sites_check(c, E, digits)
+    return name, text, quad_value(lattice, c, E, digits)
 
 
 def _site_exact(lattice: str, s: Site, c: Site, E: Energy, digits: int) -> GreenResult:
@@ -388,9 +403,9 @@ def _second(lattice: str, c: Site, E: Energy, digits: int
 
 
 def _refuse_one_method(lattice: str, c: Site, E: Energy, what: str = "G(E; r)") -> None:
-    """InputError where, inside the band, the 1-D integral has no independent check: every
-    bcc site beyond the nearest neighbour, sc sites with a coordinate above 12 (fcc sites
-    beyond the neighbour are refused everywhere, see _site)."""
+    """InputError where no exact form exists (the excluded energies of
+    exact/cubic_energy.py) and the 1-D integral has no independent check: sc sites with a
+    coordinate above 12 at the van Hove points, every fcc site beyond the neighbour there."""
     if lattice == "sc" and max(c) <= BESSEL_MAX or recurrence_ok(lattice, E):
         return
     if lattice == "fcc":
@@ -632,29 +647,19 @@ class CubicGreen(Provider):
                 "equation, s_i L(s) = sum_e e_i G(s+e) and their E-derivatives, "
                 "exact/cubic_energy.py) evaluated as certified python-flint balls, G0 and its "
                 "derivatives from the closed form in power-series arithmetic")
-            self.check_text, self.check_name = {
-                "sc": ("the 1-D integral over k3 of the square lattice's closed form",
-                       "integral"),
-                "bcc": ("the 1-D integral over k3 of the square lattice's closed form",
-                        "integral"),
-                "fcc": ("the nested per-site integral (methods/fcc_green_sites.py)", "integral")
-                if _inside(lattice, energy) else
-                ("the reduced 2-D polar Gauss-Legendre rule", "quadrature")}[lattice]
+            self.check_name, self.check_text = check_method(lattice, energy)
         elif lattice == "sc":  # table_limit <= BESSEL_MAX: every sc row has the Bessel check
             self.check_text = "the time-domain Bessel integral (methods/sc_green_bessel.py)"
             self.check_name = "bessel"
         self.energy_methods = {
             "primary": self.primary_text + f"; G0 = {CLOSED_TEXT[lattice]}",
             "check": self.check_text + " at full digits (of each component) for every row"}
-        excl = ", ".join(str(x) for x in cubic_energy.EXCLUDED[lattice])
-        if lattice == "fcc" and not self.exact:
+        if lattice == "fcc" and not self.exact:  # E = 0, 12 (-4 is refused on parsing)
+            excl = ", ".join(str(x) for x in cubic_energy.EXCLUDED[lattice])
             raise InputError(f"an fcc green table needs an energy other than {excl}: "
                              "elsewhere only the origin and the nearest neighbour have two "
                              "methods here")
-        if lattice == "bcc" and _inside(lattice, energy) and not self.exact:
-            raise InputError(f"a bcc green table inside the band needs an energy other than "
-                             f"{excl}: there only the origin and the nearest neighbour have two "
-                             "methods here")
+        # bcc: its only excluded energy inside the band, 0, is refused on parsing
 
     def _columns(self, extent: int) -> Iterator[list[Site]]:
         lat = self.lattice
