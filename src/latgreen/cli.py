@@ -12,7 +12,7 @@ import os
 import signal
 import sys
 import threading
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from pathlib import Path
 from typing import NoReturn
 
@@ -58,6 +58,19 @@ def _workers(text: str) -> int:
     if n < 1:
         raise argparse.ArgumentTypeError(f"workers must be at least 1, got {n}")
     return n
+
+
+def _positive(what: str) -> Callable[[str], int]:
+    def parse(text: str) -> int:
+        try:
+            n = int(text)
+        except ValueError:
+            raise argparse.ArgumentTypeError(f"{what} must be an integer, got {text!r}") \
+                from None
+        if n < 1:
+            raise argparse.ArgumentTypeError(f"{what} must be at least 1, got {n}")
+        return n
+    return parse
 
 
 def _parser() -> argparse.ArgumentParser:
@@ -175,9 +188,19 @@ def _parser() -> argparse.ArgumentParser:
     rg.add_argument("--quiet", action="store_true")
     rg.add_argument("--json", action="store_true", help="print the comparison report as JSON")
 
-    v = sub.add_parser("verify", help="check a published table: hashes, package, rows")
-    v.add_argument("dir", type=Path, help="the table's directory (with datapackage.json)")
-    v.add_argument("--all", action="store_true", help="recompute every row, not a sample")
+    v = sub.add_parser("verify", help="check a published table (or a whole catalogue): "
+                       "hashes, package, every row recomputed")
+    v.add_argument("dir", type=Path, help="a table's directory (with datapackage.json), or a "
+                   "catalogue root (with catalogue.json): every table's current version")
+    g = v.add_mutually_exclusive_group()
+    g.add_argument("--all", action="store_true",
+                   help="recompute every row (the default; kept for compatibility)")
+    g.add_argument("--sample", type=_positive("sample"), metavar="N", default=None,
+                   help="recompute only the batches holding about N rows spread over each "
+                        "site table (for huge tables); the region is still checked row by row")
+    v.add_argument("--workers", type=_workers, default=None,
+                   help="worker processes for the recomputation (default: the machine's cores)")
+    v.add_argument("--quiet", action="store_true", help="no progress display")
     v.add_argument("--json", action="store_true")
 
     sub.add_parser("lattices", help="list the lattices, their sites and conventions")
@@ -343,18 +366,36 @@ def _cmd_regen(a: argparse.Namespace) -> int:
 
 
 def _cmd_verify(a: argparse.Namespace) -> int:
-    from .tables.verify import report_json, verify_table
+    from .tables.verify import VerifyReport, report_json, verify_catalogue, verify_table
 
-    rep = verify_table(a.dir, all_rows=a.all)
+    def lines(rep: VerifyReport, name: str) -> None:
+        state = "ok" if rep.ok else f"{len(rep.problems) + rep.more_problems} problem(s)"
+        print(f"{name}: {state}; {rep.total_rows} rows, {rep.checked_rows} recomputed, "
+              f"{rep.seconds:.1f} s", flush=True)
+        for p in rep.problems:
+            print(f"problem: {p}")
+        if rep.more_problems:
+            print(f"problem: ... and {rep.more_problems} more")
+        for n in rep.notes:
+            print(f"note: {n}")
+
+    root = Path(a.dir)
+    if root.is_dir() and (root / "catalogue.json").exists() and \
+            not (root / "datapackage.json").exists():
+        reps = verify_catalogue(root, a.sample, a.workers, not a.quiet, on_table=None if a.json
+                                else lambda rep: lines(rep, f"{rep.table_id} {rep.version}"))
+        bad = sum(not r.ok for r in reps)
+        if a.json:
+            print(json.dumps({"root": str(root), "ok": not bad,
+                              "tables": [report_json(r) for r in reps]}))
+        else:
+            print(f"{len(reps)} table(s): " + ("all ok" if not bad else f"{bad} fail"))
+        return 1 if bad else 0
+    rep = verify_table(root, sample=a.sample, workers=a.workers, progress=not a.quiet)
     if a.json:
         print(json.dumps(report_json(rep)))
     else:
-        state = "ok" if rep.ok else f"{len(rep.problems)} problem(s)"
-        print(f"{rep.path}: {state}; {rep.total_rows} rows, {rep.checked_rows} recomputed")
-        for p in rep.problems:
-            print(f"problem: {p}")
-        for n in rep.notes:
-            print(f"note: {n}")
+        lines(rep, str(rep.path))
     return 0 if rep.ok else 1
 
 
