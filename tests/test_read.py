@@ -138,3 +138,17 @@ def test_table_id_named_in_the_readme_exists():
         latgreen.table_id("square", "green")  # a green table has an energy
     with pytest.raises(InputError, match="band edge"):
         latgreen.table_id("square", "green", "4")
+
+
+def test_readme_reading_examples_run(monkeypatch):
+    """The README's "Reading tables back" examples, run as a doctest from the project root."""
+    import doctest
+
+    text = (ROOT / "README.md").read_text()
+    start = text.index("### Reading tables back")
+    block = text[text.index("```python", start) + 9: text.index("```\n", start + 30)]
+    monkeypatch.chdir(ROOT)
+    test = doctest.DocTestParser().get_doctest(block, {}, "README", "README.md", 0)
+    runner = doctest.DocTestRunner(optionflags=doctest.ELLIPSIS)
+    runner.run(test)
+    assert runner.failures == 0 and runner.tries >= 8

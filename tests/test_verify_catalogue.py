@@ -106,3 +106,12 @@ def test_unreadable_catalogue_is_one_line_exit_2(root):
     (root / "catalogue.json").write_text('{"tables": {"x": ')
     p = cli("verify", str(root), "--quiet")
     assert p.returncode == 2 and p.stderr.count("\n") == 1 and "catalogue.json" in p.stderr
+
+
+def test_catalogue_parameters_must_be_the_descriptors(root):
+    cat = json.loads((root / "catalogue.json").read_text())
+    cat["tables"]["square-resistance"]["versions"]["v2"]["digits"] = 13
+    (root / "catalogue.json").write_text(json.dumps(cat))
+    p = cli("verify", str(root), "--quiet")
+    assert p.returncode == 1 and "catalogue.json: digits '13', the descriptor says '12'" \
+        in p.stdout

@@ -74,6 +74,7 @@ class VerifyReport:
     table_id: str | None = None
     version: str | None = None
     seconds: float = 0.0
+    descriptor: Descriptor | None = None  # as read (None: not readable)
 
     def problem(self, text: str) -> None:
         if len(self.problems) < MAX_LISTED:
@@ -115,7 +116,7 @@ def verify_table(path: Path, all_rows: bool = True, sample: int | None = None,
     d = directory if directory is not None else open_version(Path(path))[0]
     with d:
         desc = read_descriptor(d)
-        rep = VerifyReport(d.path, table_id=desc.name)
+        rep = VerifyReport(d.path, table_id=desc.name, descriptor=desc)
         tmp = Path(tempfile.mkdtemp(prefix="latgreen-verify-"))
         try:
             _verify(d, desc, rep, tmp, sample, workers, progress, catalogue_hashes)
@@ -173,12 +174,24 @@ def _verify(d: TableDir, desc: Descriptor, rep: VerifyReport, tmp: Path, sample:
         _check_files(d, desc, rep, plan, sampled=True)
         return
     out = tmp / "rebuilt"
+    if progress:
+        import sys
+
+        print(f"latgreen verify: recomputing {plan.size:,} rows of {desc.name} (a fresh build "
+              "in a temporary directory, removed afterwards)", file=sys.stderr, flush=True)
     try:
         fresh = plan.rebuild(out)
     except LatgreenError as e:
         rep.problem(f"the recomputation failed: {e}")
         _check_files(d, desc, rep, None)
         return
+    except BaseException as e:
+        # an interrupted build offers to resume from its checkpoint: not this one (the
+        # temporary directory goes)
+        notes = getattr(e, "__notes__", None)
+        if notes:
+            e.__notes__ = [n for n in notes if "--resume" not in n]
+        raise
     _compare_descriptors(rep, desc, fresh)
     fresh_hash = {r["path"]: r["hash"] for r in fresh["resources"]}
     if all(actual.get(n) == fresh_hash.get(n) for n in (CSV_FILE, JSON_FILE)):
@@ -560,7 +573,7 @@ def verify_catalogue(root: Path, sample: int | None = None, workers: int | None 
                 rep = verify_table(vd.path, sample=sample, workers=workers,
                                    progress=progress, catalogue_hashes=cur["hashes"],
                                    directory=vd)
-                _check_entry(rep, cur, vd)
+                _check_entry(rep, cur)
             except InputError as ex:
                 rep = VerifyReport(Path(root) / str(cur["path"]))
                 rep.problem(str(ex))
@@ -575,11 +588,11 @@ def verify_catalogue(root: Path, sample: int | None = None, workers: int | None 
     return out
 
 
-def _check_entry(rep: VerifyReport, entry: dict[str, Any], vd: TableDir) -> None:
+def _check_entry(rep: VerifyReport, entry: dict[str, Any]) -> None:
     """The catalogue's copy of the parameters must be the descriptor's."""
-    d = open_version(vd.path)[0]
-    with d:
-        desc = read_descriptor(d)
+    desc = rep.descriptor
+    if desc is None:  # pragma: no cover - verify_table raises instead
+        return
     for k, have in (("lattice", desc.lattice), ("quantity", desc.quantity),
                     ("digits", desc.digits), ("extent", desc.extent)):
         if k in entry and entry[k] != have:
