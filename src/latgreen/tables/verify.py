@@ -77,6 +77,8 @@ class VerifyReport:
     descriptor: Descriptor | None = None  # as read (None: not readable)
 
     def problem(self, text: str) -> None:
+        if len(text) > 600:  # a message quoting an absurd field of the descriptor
+            text = text[:597] + "..."
         if len(self.problems) < MAX_LISTED:
             self.problems.append(text)
         else:
