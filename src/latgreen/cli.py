@@ -286,26 +286,23 @@ def _cmd_build(a: argparse.Namespace) -> int:
 
 
 def _cmd_audit(a: argparse.Namespace) -> int:
-    from fractions import Fraction
-
     from .lattices import get_lattice
-    from .tables.audit import Conventions, audit, plot
+    from .tables.audit import Conventions, audit, parse_decimal, plot
 
     lat = get_lattice(a.lattice)
     cols = (a.site_columns.split(",") if a.site_columns else list(lat.coordinate_names))
     cols = [c.strip() for c in cols]
     try:
-        scale = Fraction(a.scale.strip())
-    except (ValueError, ZeroDivisionError):
-        msg = f"--scale must be a number such as 2, 0.5 or 1/3, got {a.scale!r}"
-        raise InputError(msg) from None
+        scale = parse_decimal(a.scale, "--scale")
+    except ValueError as e:
+        raise InputError(f"{e}; --scale must be a number such as 2, 0.5 or 1/3") from None
     origin = None
     if a.origin:
-        try:
-            origin = tuple(int(x) for x in a.origin.split(","))
-        except ValueError:
+        parts = [x.strip() for x in a.origin.split(",")]
+        if not all(x.lstrip("+-").isdigit() and x.isascii() and len(x) <= 100 for x in parts):
             raise InputError(f"--origin must be integers separated by commas, got "
-                             f"{a.origin!r}") from None
+                             f"{a.origin[:60]!r}")
+        origin = tuple(int(x) for x in parts)
     if not a.file.is_file():
         raise InputError(f"no such file: {a.file}")
     rep = audit(a.file, a.lattice, a.quantity, cols, a.value_column, a.tolerance,
