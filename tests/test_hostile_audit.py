@@ -203,3 +203,19 @@ def test_origin_option_with_huge_integers_is_refused(tmp_path, capsys):
     f = tmp_path / "f.csv"
     f.write_text("m,n,value\n1,0,0.5\n")
     assert "--origin" in _refused(capsys, f, "--origin", "9" * 5000 + ",0")
+
+
+def test_one_far_green_site_does_not_build_a_whole_table(tmp_path, capsys):
+    # a green table to extent 80 checks 3321 rows by quadrature (about an hour); the
+    # reference of one far site is computed alone.  The value is ours, from the same API
+    # (checked against the closed form elsewhere, DLMF 19.2), so the row must be ok.
+    from latgreen.quantities import green
+
+    v = complex(green("square", (80, 1), energy="9/2", digits=20).value)
+    f = tmp_path / "g.csv"
+    f.write_text(f"m,n,G\n80,1,{v!r}\n")
+    t = time.monotonic()
+    code = cli.main(["audit", str(f), "--lattice", "square", "--quantity", "green",
+                     "--energy", "9/2", "--value-column", "G", "--tolerance", "1e-14"])
+    capsys.readouterr()
+    assert code == 0 and time.monotonic() - t < 30

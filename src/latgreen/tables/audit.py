@@ -34,6 +34,8 @@ from .build import rows as table_rows
 
 REF_DIGITS = 20  # references to 20 digits: more than any float64 value can carry
 AGREE_CAP = 17   # a float64 value carries at most about 17 significant digits
+# sites x this < the region's rows: references one by one, not from a table pass
+SPARSE_COMPLEX, SPARSE_REAL = 4, 20_000
 
 
 @dataclass
@@ -456,6 +458,23 @@ def _references(provider: Any, sites: set[tuple[int, ...]], digits: int) -> dict
     extent = min(extent, provider.exact_limit)
     cplx = bool(getattr(provider, "complex_valued", False))
     refs: dict[Any, str] = {}
+    # a table pass costs about one full-digit check per row for a complex quantity, a few
+    # microseconds per row otherwise; a single value costs about one full-digit check: a
+    # few sites far out are computed one by one (a green table to the extent of one far
+    # site would take hours)
+    inside = [s for s in sites if max(s) <= extent]
+    if provider.quantity in ("green", "resistance") and len(inside) * (
+            SPARSE_COMPLEX if cplx else SPARSE_REAL) < provider.lattice.region_size(extent):
+        from ..quantities import green, resistance
+
+        name = provider.lattice.name
+        for s in inside:
+            if cplx:
+                g = green(name, s, energy=str(provider.energy), digits=digits)
+                refs[s] = f"{g.value_re}|{g.value_im}"
+            else:
+                refs[s] = resistance(name, s, digits=digits).value
+        return refs
     for blk in table_rows(provider, extent, digits, "full" if cplx else "fast",
                           with_exact=False):
         for k, s in enumerate(blk.sites):
