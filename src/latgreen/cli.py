@@ -51,13 +51,17 @@ def _extent(text: str) -> int:
 
 
 def _workers(text: str) -> int:
+    from .tables.make import check_workers
+
     try:
         n = int(text)
     except ValueError:
-        raise argparse.ArgumentTypeError(f"workers must be an integer, got {text!r}") from None
-    if n < 1:
-        raise argparse.ArgumentTypeError(f"workers must be at least 1, got {n}")
-    return n
+        raise argparse.ArgumentTypeError(f"workers must be an integer, got {text[:40]!r}"
+                                         ) from None
+    try:
+        return check_workers(n)
+    except InputError as e:
+        raise argparse.ArgumentTypeError(str(e)) from None
 
 
 def _parser() -> argparse.ArgumentParser:
@@ -115,7 +119,7 @@ def _parser() -> argparse.ArgumentParser:
     t.add_argument("--energies", metavar="A:B:COUNT", default=None,
                    help="the energy grid of a dos table: COUNT points from A to B")
     t.add_argument("--digits", type=_digits, default=50)
-    t.add_argument("--out", type=Path, required=True, help="output directory (created)")
+    t.add_argument("--out", required=True, help="output directory (created)")
     t.add_argument("--force", action="store_true", help="replace a non-empty output directory")
     t.add_argument("--verify", choices=("auto", "full", "fast"), default="auto",
                    help="independent check: full digits for every row, or float64 for every "
@@ -233,6 +237,9 @@ def _cmd_dos(a: argparse.Namespace) -> int:
 
 
 def _cmd_table(a: argparse.Namespace) -> int:
+    if not a.out:  # argparse's Path('') would be '.', the current directory
+        raise InputError("--out is empty: name the directory to create")
+    a.out = Path(a.out)
     if a.quantity == "dos":
         if a.energies is None or a.extent is not None or a.energy is not None:
             raise InputError("a dos table takes --energies A:B:COUNT (and no --extent or "
@@ -417,8 +424,9 @@ def main(argv: Sequence[str] | None = None) -> int:
     except (InputError, PrecisionError) as e:
         print(f"latgreen: error: {e}", file=sys.stderr)
         return 2
-    except LatgreenError as e:  # pragma: no cover - every subclass is handled above
+    except LatgreenError as e:  # a worker process that died (tables.build.WorkerDied)
         print(f"latgreen: error: {e}", file=sys.stderr)
+        _notes(e)
         return 2
     except BrokenPipeError:
         # the reader went away (| head): stop quietly, as other command-line tools do
