@@ -239,17 +239,37 @@ def run_units(provider: Provider, extent: int, digits: int, verify: str, with_ex
             _drain(progress, on_rows)
             on_unit(i, ch)
         ok = True
+    except WorkerDied:
+        _abandon(pool, started)
+        raise
     finally:
         if ok:
             pool.close()
-        else:
+            pool.join()
+        elif not getattr(pool, "_abandoned", False):
             pool.terminate()
-        pool.join()
+            pool.join()
 
 
 class WorkerDied(LatgreenError):
     """A worker process ended without finishing its unit (killed, out of memory): the pool
     would wait for its result for ever."""
+
+
+def _abandon(pool: Pool, started: Sequence[Any]) -> None:
+    """Kill every worker and leave the pool: after a worker died, Pool.terminate() can wait
+    for ever on the task queue's lock (a killed process may hold it, and the worker started
+    in its place takes it).  The pool's exit-time clean-up would do the same, so it is
+    cancelled; its threads are daemons."""
+    for p in [*started, *getattr(pool, "_pool", ())]:
+        if p.exitcode is None:
+            p.kill()
+            p.join(5)
+    fin = getattr(pool, "_terminate", None)
+    if fin is not None and hasattr(fin, "cancel"):
+        fin.cancel()
+    pool._state = "TERMINATE"  # type: ignore[attr-defined]  # no "unclosed pool" warning
+    pool._abandoned = True  # type: ignore[attr-defined]
 
 
 def _check_alive(procs: Sequence[Any]) -> None:

@@ -18,13 +18,14 @@ disk before a crash fails its hash and the unit is simply computed again.
 the table's parameters give (:func:`latgreen.tables.build.plan_units` with the recorded
 number of parts), and a unit counts as done only if both its files match their hashes, hold
 exactly the rows the region puts in that unit (their site keys, read from every CSV line and
-JSON row, hash to those of the unit's sites in order) and its summary (rows, first and last
-site, minimum agreement, rows checked at full digits) is what its CSV lines say
-(:meth:`Checkpoint.done`); any other unit is computed again.  The values themselves are not
-recomputed: the checkpoint is a local file of the user's own run, whose threats are storage
-corruption, truncation and editing or mixing of its files (all caught above); someone who
-rewrites a value and its hash could as well rewrite a published table and its descriptor,
-which is what ``latgreen verify`` (a recomputed sample, ``--all`` every row) is for.
+JSON row, hash to those of the unit's sites in order), its JSON rows are its CSV lines, and
+its summary (rows, first and last site, minimum agreement, rows checked at full digits) is what
+its CSV lines say (:meth:`Checkpoint.done`); any other unit is computed again.  The values
+themselves are not recomputed: the checkpoint is a local file of the user's own run, whose
+threats are storage corruption, truncation and editing or mixing of its files (all caught
+above); someone who rewrites a value and its hash in both files could as well rewrite a
+published table and its descriptor, which is what ``latgreen verify`` (a recomputed
+sample, ``--all`` every row) is for.
 """
 
 from __future__ import annotations
@@ -183,18 +184,21 @@ class _Scan:
     keys_sha256: str
     min_agreement: int | None = None
     full_rows: int = 0
+    as_csv_sha256: str | None = None  # of a JSON file: the sha256 of its rows as CSV lines
 
 
 def _scan(path: Path, pattern: re.Pattern[bytes], is_csv: bool) -> _Scan | None:
     """Hash a unit file (in a second thread) while reading the keys (and for the CSV the
-    methods and agreement) of every line; None if a line is not a table row."""
+    methods and agreement) of every line, and for the JSON hashing its rows turned into CSV
+    lines; None if a line is not a table row."""
     with open(path, "rb") as f:
         size = os.fstat(f.fileno()).st_size
         data: Any = mmap.mmap(f.fileno(), 0, access=mmap.ACCESS_READ) if size else b""
         try:
             with ThreadPoolExecutor(1) as ex:
                 whole = ex.submit(lambda: hashlib.sha256(data).hexdigest())
-                keys, rows, low, full, ok = hashlib.sha256(), 0, None, 0, True
+                keys, as_csv = hashlib.sha256(), hashlib.sha256()
+                rows, low, full, ok = 0, None, 0, True
                 if not is_csv and size and data[:2] != b",\n":
                     ok = False
                 for part in _slices(data, b"\n" if is_csv else b",\n", is_csv) if ok else ():
@@ -217,13 +221,18 @@ def _scan(path: Path, pattern: re.Pattern[bytes], is_csv: bool) -> _Scan | None:
                                 full += 1
                     else:
                         keys.update(b"\n".join(found) + b"\n")
+                        # the rows as CSV lines: the fields hold no quotes, and "],\n["
+                        # only parts rows (no field holds a newline)
+                        as_csv.update(part.replace(b'"', b"").replace(b"],\n[", b"\n")[3:-1]
+                                      + b"\n")
                 sha = whole.result()
         finally:
             if isinstance(data, mmap.mmap):
                 data.close()
     if not ok:
         return None
-    return _Scan(sha, rows, keys.hexdigest(), low, full)
+    return _Scan(sha, rows, keys.hexdigest(), low, full,
+                 None if is_csv else as_csv.hexdigest())
 
 
 class Checkpoint:
@@ -322,6 +331,8 @@ class Checkpoint:
             return "a line of it is not a table row"
         if (c.sha256, j.sha256) != (csv_sha, json_sha):
             return "its files do not match their sha256"
+        if j.as_csv_sha256 != c.sha256:
+            return "its CSV and JSON rows differ"
         if not (c.rows == j.rows == shape.rows == rows):
             return f"it holds {c.rows} rows where the region puts {shape.rows} in it"
         if not (c.keys_sha256 == j.keys_sha256 == shape.keys_sha256):
