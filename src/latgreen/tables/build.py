@@ -260,7 +260,15 @@ def _abandon(pool: Pool, started: Sequence[Any]) -> None:
     """Kill every worker and leave the pool: after a worker died, Pool.terminate() can wait
     for ever on the task queue's lock (a killed process may hold it, and the worker started
     in its place takes it).  The pool's exit-time clean-up would do the same, so it is
-    cancelled; its threads are daemons."""
+    cancelled; its threads are daemons.  The thread that starts replacement workers is
+    stopped first (one started after the kill below would outlive the build)."""
+    handler = getattr(pool, "_worker_handler", None)
+    if handler is not None:
+        handler._state = "TERMINATE"  # what Pool.terminate sets: the thread's loop ends
+        notifier = getattr(pool, "_change_notifier", None)
+        if notifier is not None:
+            notifier.put(None)
+        handler.join(5)
     for p in [*started, *getattr(pool, "_pool", ())]:
         if p.exitcode is None:
             p.kill()

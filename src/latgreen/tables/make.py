@@ -253,6 +253,11 @@ def _cluster_size(scheduler: str) -> int:
     except ImportError:
         raise InputError("--scheduler needs the 'distributed' package (pip install "
                          "'latgreen[distributed]')") from None
+    _, _, rest = scheduler.rpartition("://")
+    port = rest.rpartition(":")[2]
+    if port.isdigit() and not 0 < int(port) < 65536:
+        raise InputError(f"cannot reach the Dask scheduler at {scheduler[:80]}: port {port} is "
+                         "not a TCP port (1 to 65535)")
     try:
         with Client(scheduler, timeout="5s") as c:
             return max(1, len(c.scheduler_info().get("workers", {})))
