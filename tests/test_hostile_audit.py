@@ -25,6 +25,12 @@ def _refused(capsys, path, *extra):
     return lines[0]
 
 
+def _refused_file(tmp_path, capsys, name, data):
+    f = tmp_path / name
+    f.write_bytes(data)
+    return _refused(capsys, f)
+
+
 def _rows(out):
     return {r["line"]: r for r in json.loads(out)["rows"]}
 
@@ -108,9 +114,7 @@ def test_very_long_fields_are_invalid_rows_quickly(tmp_path, capsys):
     ("{not json", "not valid JSON"),
 ])
 def test_json_of_wrong_shape_is_one_line_exit_2(tmp_path, capsys, text, needle):
-    f = tmp_path / "f.json"
-    f.write_text(text)
-    assert needle in _refused(capsys, f)
+    assert needle in _refused_file(tmp_path, capsys, "f.json", text.encode())
 
 
 def test_json_rows_that_are_not_objects_are_invalid_rows(tmp_path, capsys):
@@ -171,9 +175,7 @@ def test_utf8_byte_order_mark_before_the_header_is_accepted(tmp_path, capsys):
     (b"m,n,R\n", "has no rows"),
 ])
 def test_bad_csv_files_are_one_line_exit_2(tmp_path, capsys, data, needle):
-    f = tmp_path / "f.csv"
-    f.write_bytes(data)
-    assert needle in _refused(capsys, f)
+    assert needle in _refused_file(tmp_path, capsys, "f.csv", data)
 
 
 def test_duplicate_columns_not_used_are_ignored(tmp_path, capsys):

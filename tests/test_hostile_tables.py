@@ -63,6 +63,14 @@ def _refix(ckpt, i):
     return meta
 
 
+def _refixed_resume(ckpt, i, out, reference, capsys, why):
+    """Fix unit i's hashes after an edit, resume: the unit is computed again, for ``why``."""
+    _refix(ckpt, i)
+    _resume_gives_the_reference(out, reference)
+    err = capsys.readouterr().err
+    assert "computing them again" in err and why in err, err
+
+
 def _resume_gives_the_reference(out, reference, capsys=None):
     make_table(TableRequest(*ARGS, out, verify="fast", progress=True, workers=1,
                             resume=True))
@@ -85,9 +93,7 @@ def test_resume_recomputes_a_unit_whose_sites_were_edited_with_its_hash_fixed(
     first = csv_p.read_bytes().split(b",", 2)
     _edit(csv_p, first[0] + b"," + first[1] + b",", first[0] + b",99,")
     _edit(json_p, b"[" + first[0] + b"," + first[1] + b",", b"[" + first[0] + b",99,")
-    _refix(ckpt, 1)
-    _resume_gives_the_reference(out, reference)
-    assert "computing them again" in capsys.readouterr().err
+    _refixed_resume(ckpt, 1, out, reference, capsys, "not the sites of the unit")
 
 
 def test_resume_recomputes_a_unit_whose_csv_value_was_edited_with_its_hash_fixed(
@@ -97,9 +103,7 @@ def test_resume_recomputes_a_unit_whose_csv_value_was_edited_with_its_hash_fixed
     line = csv_p.read_bytes().split(b"\n")[3]
     value = line.split(b",")[2]
     _edit(csv_p, line, line.replace(value, value[:-1] + (b"1" if value[-1:] != b"1" else b"2")))
-    _refix(ckpt, 2)
-    _resume_gives_the_reference(out, reference)
-    assert "CSV and JSON rows differ" in capsys.readouterr().err
+    _refixed_resume(ckpt, 2, out, reference, capsys, "CSV and JSON rows differ")
 
 
 def test_resume_recomputes_a_truncated_unit_with_its_hash_and_rows_fixed(
