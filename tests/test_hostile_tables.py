@@ -392,3 +392,37 @@ def test_a_killed_worker_stops_the_build_instead_of_hanging(tmp_path):
     assert p.returncode == 2, err
     assert "latgreen: error: a worker process was killed by signal 9" in err
     assert "Traceback" not in err and not (tmp_path / "big").exists()
+
+
+@pytest.mark.parametrize(("lattice", "quantity", "extent", "energy", "verify"), [
+    ("honeycomb", "resistance", 16, None, "fast"),   # three coordinates, two units
+    ("sc", "resistance", 8, None, "fast"),           # the cubic layout, several units
+    ("square", "green", 2, "9/2", "full"),           # complex rows: six text columns
+])
+def test_resume_reuses_every_intact_unit_of_each_row_layout(tmp_path, monkeypatch, lattice,
+                                                            quantity, extent, energy, verify):
+    def req(out, resume=False):
+        return TableRequest(lattice, quantity, extent, 12, out, verify=verify, progress=False,
+                            workers=1, resume=resume, energy=energy)
+
+    ref = tmp_path / "ref"
+    make_table(req(ref))
+    out = tmp_path / "t"
+
+    def stop(*a, **k):
+        raise KeyboardInterrupt
+
+    with monkeypatch.context() as m:
+        m.setattr(make, "write_table", stop)
+        with pytest.raises(KeyboardInterrupt):
+            make_table(req(out))
+    real = make.run_units
+
+    def nothing_to_do(*a, **k):
+        assert a[6] == [], f"units {a[6]} were computed again"
+        return real(*a, **k)
+
+    monkeypatch.setattr(make, "run_units", nothing_to_do)
+    make_table(req(out, resume=True))
+    for name in ("values.csv", "values.json"):
+        assert (out / name).read_bytes() == (ref / name).read_bytes()

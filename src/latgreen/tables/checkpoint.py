@@ -36,6 +36,7 @@ import mmap
 import os
 import re
 import shutil
+from collections import Counter
 from collections.abc import Iterable, Sequence
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
@@ -154,16 +155,29 @@ def unit_shapes(batch_sites: Iterable[Sequence[tuple[int, ...]]], units: list[tu
     return {i: UnitShape(n, first, last, h.hexdigest()) for i, (n, first, last, h) in acc.items()}
 
 
-def _patterns(coords: int, fields: int) -> tuple[re.Pattern[bytes], re.Pattern[bytes]]:
-    """A whole CSV line and a whole JSON row of a table with ``coords`` site coordinates and
-    ``fields`` text columns before ``methods, agreement_digits``: (keys, methods, agreement)
-    and (keys)."""
-    key = rb"(-?[0-9]+(?:,-?[0-9]+){%d})" % (coords - 1)
-    csv_line = re.compile(rb"^" + key + rb",(?:[^,\n]*,){%d}([^,\n]*),([0-9]+)\n" % fields,
-                          re.M)
-    json_row = re.compile(rb",\n\[" + key + rb'(?:,"[^"\n]*"){%d},"[^"\n]*",[0-9]+\]'
-                          rb"(?=,\n|\Z)" % fields)
-    return csv_line, json_row
+@dataclass(frozen=True)
+class _Layout:
+    """The rows of a table with ``coords`` site coordinates and ``fields`` text columns
+    before ``methods, agreement_digits``, as the scan reads them.  Every pattern starts with
+    a newline, which the regular-expression engine searches for fast (a pattern that begins
+    with a character class runs about ten times slower): the keys at the start of each CSV
+    line and JSON row, and the agreement and methods at the end of each CSV line, read in
+    the reversed text."""
+
+    coords: int
+    fields: int
+
+    @property
+    def csv_keys(self) -> re.Pattern[bytes]:
+        return re.compile(rb"\n(-?[0-9]+(?:,-?[0-9]+){%d})," % (self.coords - 1))
+
+    @property
+    def csv_tails(self) -> re.Pattern[bytes]:  # on the reversed text: "\n41,sdohtem,"
+        return re.compile(rb"\n([0-9]+),([^,\n]*),")
+
+    @property
+    def json_keys(self) -> re.Pattern[bytes]:
+        return re.compile(rb'\n\[(-?[0-9]+(?:,-?[0-9]+){%d}),"' % (self.coords - 1))
 
 
 def _slices(data: Any, cut: bytes, after: bool) -> Iterable[bytes]:
@@ -187,50 +201,77 @@ class _Scan:
     as_csv_sha256: str | None = None  # of a JSON file: the sha256 of its rows as CSV lines
 
 
-def _scan(path: Path, pattern: re.Pattern[bytes], is_csv: bool) -> _Scan | None:
-    """Hash a unit file (in a second thread) while reading the keys (and for the CSV the
-    methods and agreement) of every line, and for the JSON hashing its rows turned into CSV
-    lines; None if a line is not a table row."""
+_DEFINITION = b"definition"[::-1]
+_FLOAT_CHECK = b"quadrature-float64"[::-1]
+
+
+def _scan_csv(part: bytes, lay: _Layout, keys: Any, tally: Counter[tuple[bytes, bytes]]
+              ) -> int | None:
+    """The rows of a slice of CSV lines (keys hashed into ``keys``, (agreement, methods)
+    reversed counted into ``tally``), or None if a line is not a table row."""
+    n = part.count(b"\n")
+    if (not part.endswith(b"\n") or b'"' in part or b"\r" in part
+            or part.count(b",") != n * (lay.coords + lay.fields + 1)):
+        return None
+    found = lay.csv_keys.findall(b"\n" + part)
+    tails = lay.csv_tails.findall(part[::-1])
+    if len(found) != n or len(tails) != n:
+        return None
+    keys.update(b"\n".join(found) + b"\n")
+    tally.update(tails)
+    return n
+
+
+def _scan_json(part: bytes, lay: _Layout, keys: Any, as_csv: Any) -> int | None:
+    """The rows of a slice of JSON rows (each ``,\\n[...]``; keys hashed into ``keys``, the
+    rows turned into CSV lines into ``as_csv``), or None if a row is not a table row."""
+    n = part.count(b"\n")
+    if (not part.startswith(b",\n[") or not part.endswith(b"]")
+            or part.count(b'"') != 2 * (lay.fields + 1) * n
+            or part.count(b'","') != lay.fields * n):
+        return None
+    found = lay.json_keys.findall(part)
+    if len(found) != n:
+        return None
+    keys.update(b"\n".join(found) + b"\n")
+    # the rows as CSV lines: the fields hold no quotes, and "],\n[" only parts rows (no
+    # field holds a newline)
+    as_csv.update(part.replace(b'"', b"").replace(b"],\n[", b"\n")[3:-1] + b"\n")
+    return n
+
+
+def _scan(path: Path, lay: _Layout, is_csv: bool) -> _Scan | None:
+    """Hash a unit file (in a second thread) while reading the keys of every row, for the
+    CSV their agreement and methods, for the JSON hashing its rows turned into CSV lines;
+    None if a line is not a table row."""
+    keys, as_csv = hashlib.sha256(), hashlib.sha256()
+    tally: Counter[tuple[bytes, bytes]] = Counter()
+    rows, ok = 0, True
     with open(path, "rb") as f:
         size = os.fstat(f.fileno()).st_size
         data: Any = mmap.mmap(f.fileno(), 0, access=mmap.ACCESS_READ) if size else b""
         try:
             with ThreadPoolExecutor(1) as ex:
                 whole = ex.submit(lambda: hashlib.sha256(data).hexdigest())
-                keys, as_csv = hashlib.sha256(), hashlib.sha256()
-                rows, low, full, ok = 0, None, 0, True
-                if not is_csv and size and data[:2] != b",\n":
-                    ok = False
-                for part in _slices(data, b"\n" if is_csv else b",\n", is_csv) if ok else ():
-                    if is_csv and not part.endswith(b"\n"):  # a last line without its end
+                for part in _slices(data, b"\n" if is_csv else b",\n[", is_csv):
+                    n = (_scan_csv(part, lay, keys, tally) if is_csv else
+                         _scan_json(part, lay, keys, as_csv))
+                    if n is None:
                         ok = False
                         break
-                    found = pattern.findall(part)
-                    if len(found) != part.count(b"\n") or not found:
-                        ok = False
-                        break
-                    rows += len(found)
-                    if is_csv:
-                        keys.update(b"\n".join([k for k, _, _ in found]) + b"\n")
-                        for _, meth, agree in found:
-                            if meth == b"definition":
-                                continue
-                            a = int(agree)
-                            low = a if low is None or a < low else low
-                            if b"quadrature-float64" not in meth:
-                                full += 1
-                    else:
-                        keys.update(b"\n".join(found) + b"\n")
-                        # the rows as CSV lines: the fields hold no quotes, and "],\n["
-                        # only parts rows (no field holds a newline)
-                        as_csv.update(part.replace(b'"', b"").replace(b"],\n[", b"\n")[3:-1]
-                                      + b"\n")
+                    rows += n
                 sha = whole.result()
         finally:
             if isinstance(data, mmap.mmap):
                 data.close()
     if not ok:
         return None
+    try:
+        checked = [(int(a[::-1]), m) for a, m in tally if m != _DEFINITION]
+    except ValueError:  # pragma: no cover - the pattern reads digits only
+        return None
+    low = min((a for a, _ in checked), default=None)
+    full = sum(k for (_, m), k in tally.items() if m != _DEFINITION and _FLOAT_CHECK not in m)
     return _Scan(sha, rows, keys.hexdigest(), low, full,
                  None if is_csv else as_csv.hexdigest())
 
@@ -297,12 +338,12 @@ class Checkpoint:
         """Check the units that have a meta file against ``shapes`` (what the region puts in
         each unit) and their own files; keep those that pass (:attr:`valid`), drop the meta
         file of the others (they are computed again) and return [(unit, what is wrong)]."""
-        csv_line, json_row = _patterns(coords, fields)
+        lay = _Layout(coords, fields)
         rejected = []
         for i in sorted(shapes):
             if not _paths(self.dir, i)[2].is_file():
                 continue
-            why = self._check(i, shapes[i], csv_line, json_row)
+            why = self._check(i, shapes[i], lay)
             if isinstance(why, Chunk):
                 self.valid[i] = why
             else:
@@ -310,8 +351,7 @@ class Checkpoint:
                 _paths(self.dir, i)[2].unlink(missing_ok=True)
         return rejected
 
-    def _check(self, i: int, shape: UnitShape, csv_line: re.Pattern[bytes],
-               json_row: re.Pattern[bytes]) -> Chunk | str:
+    def _check(self, i: int, shape: UnitShape, lay: _Layout) -> Chunk | str:
         csv_p, json_p, meta_p = _paths(self.dir, i)
         try:
             meta = json.loads(meta_p.read_text(encoding="utf-8"))
@@ -323,8 +363,8 @@ class Checkpoint:
         if not (csv_p.is_file() and json_p.is_file()):
             return "a file is missing"
         try:
-            c = _scan(csv_p, csv_line, True)
-            j = _scan(json_p, json_row, False)
+            c = _scan(csv_p, lay, True)
+            j = _scan(json_p, lay, False)
         except OSError as e:
             return f"cannot read it ({e.strerror})"
         if c is None or j is None:

@@ -242,7 +242,13 @@ def _all_rows(ckpt: Checkpoint, count: int, sites: int) -> Iterator[Chunk]:
 
 
 def _params_text(p: dict[str, Any]) -> str:
-    return ", ".join(f"{k} {v}" for k, v in p.items())
+    """The parameters of a checkpoint on one short line (they come from a file).
+
+    >>> _params_text({"lattice": "square", "extent": 8, "x": "a\\nb"})
+    'lattice square, extent 8, x a b'
+    """
+    text = " ".join(", ".join(f"{k} {v}" for k, v in p.items()).split())
+    return text if len(text) <= 300 else text[:300] + "..."
 
 
 def _cluster_size(scheduler: str) -> int:
