@@ -356,7 +356,8 @@ def _alive(pid):
 
 def _start_pool_build(tmp_path):
     env = dict(os.environ, PYTHONPATH=str(ROOT / "src"))
-    p = subprocess.Popen([sys.executable, "-m", "latgreen", "table", "square", "--extent",
+    p = subprocess.Popen([sys.executable, "-X", "faulthandler", "-m", "latgreen", "table",
+                          "square", "--extent",
                           "300", "--digits", "40", "--verify", "fast", "--workers", "2",
                           "--out", str(tmp_path / "big")], env=env, stdout=subprocess.PIPE,
                          stderr=subprocess.PIPE, text=True, start_new_session=True)
@@ -366,15 +367,24 @@ def _start_pool_build(tmp_path):
         if len(kids) >= 2:
             return p, kids
         time.sleep(0.05)
-    p.kill()
+    _stop(p)
     raise AssertionError("the pool did not start")
+
+
+def _stop(p):
+    """Kill a build left running by a failed test, and its workers, and wait for them."""
+    for k in _children(p.pid):
+        os.kill(k, signal.SIGKILL)
+    if p.poll() is None:
+        p.kill()
+        p.communicate()
 
 
 @pytest.mark.skipif(not sys.platform.startswith("linux"), reason="reads /proc")
 def test_sigkill_of_the_main_process_kills_the_workers(tmp_path):
     p, kids = _start_pool_build(tmp_path)
     os.kill(p.pid, signal.SIGKILL)  # the main process only, not its group
-    p.communicate(timeout=30)
+    p.communicate()
     deadline = time.monotonic() + 5
     while time.monotonic() < deadline and any(_alive(k) for k in kids):
         time.sleep(0.05)
@@ -388,7 +398,13 @@ def test_sigkill_of_the_main_process_kills_the_workers(tmp_path):
 def test_a_killed_worker_stops_the_build_instead_of_hanging(tmp_path):
     p, kids = _start_pool_build(tmp_path)
     os.kill(kids[0], signal.SIGKILL)  # as the out-of-memory killer would
-    _, err = p.communicate(timeout=60)
+    try:
+        _, err = p.communicate(timeout=60)
+    except subprocess.TimeoutExpired:
+        os.kill(p.pid, signal.SIGABRT)  # faulthandler prints where the build waits
+        _, err = p.communicate(timeout=30)
+        _stop(p)
+        raise AssertionError(f"the build hangs after a worker died:\n{err}") from None
     assert p.returncode == 2, err
     assert "latgreen: error: a worker process was killed by signal 9" in err
     assert "Traceback" not in err and not (tmp_path / "big").exists()

@@ -263,15 +263,26 @@ def _abandon(pool: Pool, started: Sequence[Any]) -> None:
     cancelled; its threads are daemons.  The thread that starts replacement workers is
     stopped first (one started after the kill below would outlive the build)."""
     handler = getattr(pool, "_worker_handler", None)
+    notifier = getattr(pool, "_change_notifier", None)
     if handler is not None:
         handler._state = "TERMINATE"  # what Pool.terminate sets: the thread's loop ends
-        notifier = getattr(pool, "_change_notifier", None)
-        if notifier is not None:
-            notifier.put(None)
-        handler.join(5)
-    for p in [*started, *getattr(pool, "_pool", ())]:
-        if p.exitcode is None:
+        for _ in range(20):
+            if notifier is not None:
+                notifier.put(None)
+            handler.join(0.5)
+            if not handler.is_alive():
+                break
+    # every child left (a worker started in place of the dead one included): one still
+    # alive at exit would be sent SIGTERM and waited for, and a worker forked from a thread
+    # may hang before it can act on SIGTERM
+    for _ in range(3):
+        alive = [p for p in {*started, *getattr(pool, "_pool", ()),
+                             *multiprocessing.active_children()} if p.exitcode is None]
+        if not alive:
+            break
+        for p in alive:
             p.kill()
+        for p in alive:
             p.join(5)
     fin = getattr(pool, "_terminate", None)
     if fin is not None and hasattr(fin, "cancel"):
