@@ -36,17 +36,21 @@ def reference(tmp_path_factory):
     return {n: (out / n).read_bytes() for n in ("values.csv", "values.json")}
 
 
-def _interrupted(tmp_path, monkeypatch):
-    """A checkpoint holding every unit of the table: the build stops at the last step."""
-    out = tmp_path / "t"
-
+def _interrupt(req, monkeypatch):
+    """Build, stopping at the last step (after every unit is saved in the checkpoint)."""
     def stop(*a, **k):
         raise KeyboardInterrupt
 
     with monkeypatch.context() as m:
         m.setattr(make, "write_table", stop)
         with pytest.raises(KeyboardInterrupt):
-            make_table(_req(out))
+            make_table(req)
+
+
+def _interrupted(tmp_path, monkeypatch):
+    """A checkpoint holding every unit of the table: the build stops at the last step."""
+    out = tmp_path / "t"
+    _interrupt(_req(out), monkeypatch)
     ckpt = tmp_path / ".t.partial"
     assert len(list(ckpt.glob("unit-*.meta.json"))) == 5
     return out, ckpt
@@ -424,14 +428,7 @@ def test_resume_reuses_every_intact_unit_of_each_row_layout(tmp_path, monkeypatc
     ref = tmp_path / "ref"
     make_table(req(ref))
     out = tmp_path / "t"
-
-    def stop(*a, **k):
-        raise KeyboardInterrupt
-
-    with monkeypatch.context() as m:
-        m.setattr(make, "write_table", stop)
-        with pytest.raises(KeyboardInterrupt):
-            make_table(req(out))
+    _interrupt(req(out), monkeypatch)
     real = make.run_units
 
     def nothing_to_do(*a, **k):
