@@ -51,13 +51,17 @@ def _extent(text: str) -> int:
 
 
 def _workers(text: str) -> int:
+    from .tables.make import check_workers
+
     try:
         n = int(text)
     except ValueError:
-        raise argparse.ArgumentTypeError(f"workers must be an integer, got {text!r}") from None
-    if n < 1:
-        raise argparse.ArgumentTypeError(f"workers must be at least 1, got {n}")
-    return n
+        raise argparse.ArgumentTypeError(f"workers must be an integer, got {text[:40]!r}"
+                                         ) from None
+    try:
+        return check_workers(n)
+    except InputError as e:
+        raise argparse.ArgumentTypeError(str(e)) from None
 
 
 def _positive(what: str) -> Callable[[str], int]:
@@ -128,7 +132,7 @@ def _parser() -> argparse.ArgumentParser:
     t.add_argument("--energies", metavar="A:B:COUNT", default=None,
                    help="the energy grid of a dos table: COUNT points from A to B")
     t.add_argument("--digits", type=_digits, default=50)
-    t.add_argument("--out", type=Path, required=True, help="output directory (created)")
+    t.add_argument("--out", required=True, help="output directory (created)")
     t.add_argument("--force", action="store_true", help="replace a non-empty output directory")
     t.add_argument("--verify", choices=("auto", "full", "fast"), default="auto",
                    help="independent check: full digits for every row, or float64 for every "
@@ -256,6 +260,9 @@ def _cmd_dos(a: argparse.Namespace) -> int:
 
 
 def _cmd_table(a: argparse.Namespace) -> int:
+    if not a.out:  # argparse's Path('') would be '.', the current directory
+        raise InputError("--out is empty: name the directory to create")
+    a.out = Path(a.out)
     if a.quantity == "dos":
         if a.energies is None or a.extent is not None or a.energy is not None:
             raise InputError("a dos table takes --energies A:B:COUNT (and no --extent or "
@@ -309,26 +316,23 @@ def _cmd_build(a: argparse.Namespace) -> int:
 
 
 def _cmd_audit(a: argparse.Namespace) -> int:
-    from fractions import Fraction
-
     from .lattices import get_lattice
-    from .tables.audit import Conventions, audit, plot
+    from .tables.audit import Conventions, audit, parse_decimal, plot
 
     lat = get_lattice(a.lattice)
     cols = (a.site_columns.split(",") if a.site_columns else list(lat.coordinate_names))
     cols = [c.strip() for c in cols]
     try:
-        scale = Fraction(a.scale.strip())
-    except (ValueError, ZeroDivisionError):
-        msg = f"--scale must be a number such as 2, 0.5 or 1/3, got {a.scale!r}"
-        raise InputError(msg) from None
+        scale = parse_decimal(a.scale, "--scale")
+    except ValueError as e:
+        raise InputError(f"{e}; --scale must be a number such as 2, 0.5 or 1/3") from None
     origin = None
     if a.origin:
-        try:
-            origin = tuple(int(x) for x in a.origin.split(","))
-        except ValueError:
+        parts = [x.strip() for x in a.origin.split(",")]
+        if not all(x.lstrip("+-").isdigit() and x.isascii() and len(x) <= 100 for x in parts):
             raise InputError(f"--origin must be integers separated by commas, got "
-                             f"{a.origin!r}") from None
+                             f"{a.origin[:60]!r}")
+        origin = tuple(int(x) for x in parts)
     if not a.file.is_file():
         raise InputError(f"no such file: {a.file}")
     rep = audit(a.file, a.lattice, a.quantity, cols, a.value_column, a.tolerance,
@@ -461,8 +465,9 @@ def main(argv: Sequence[str] | None = None) -> int:
     except (InputError, PrecisionError) as e:
         print(f"latgreen: error: {e}", file=sys.stderr)
         return 2
-    except LatgreenError as e:  # pragma: no cover - every subclass is handled above
+    except LatgreenError as e:  # a worker process that died (tables.build.WorkerDied)
         print(f"latgreen: error: {e}", file=sys.stderr)
+        _notes(e)
         return 2
     except BrokenPipeError:
         # the reader went away (| head): stop quietly, as other command-line tools do

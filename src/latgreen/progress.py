@@ -14,7 +14,8 @@ class Progress:
         self.total = max(total, 1)
         self.label = label
         self.stream = stream if stream is not None else sys.stderr
-        self.enabled = enabled
+        # no stderr at all (started with 2>&-): nothing to show
+        self.enabled = enabled and self.stream is not None
         self.tty = bool(getattr(self.stream, "isatty", lambda: False)())
         self.done = 0
         self.start = time.monotonic()
@@ -38,17 +39,24 @@ class Progress:
         if now - self.last < self.log_every and self.done < self.total:
             return
         self.last = now
-        if self.tty:
-            self.stream.write("\r" + self._line() + "\x1b[K")
-        else:
-            self.stream.write(self._line() + "\n")
-        self.stream.flush()
+        self._write("\r" + self._line() + "\x1b[K" if self.tty else self._line() + "\n")
+
+    def note(self, message: str) -> None:
+        """One line of news during the run (e.g. work units that are computed again)."""
+        if self.enabled:
+            self._write(("\r\x1b[K" if self.tty else "") + f"{self.label}: {message}\n")
 
     def finish(self, message: str) -> None:
         if not self.enabled:
             return
         el = time.monotonic() - self.start
-        if self.tty:
-            self.stream.write("\r\x1b[K")
-        self.stream.write(f"{self.label}: {message} in {el:,.1f} s\n")
-        self.stream.flush()
+        self._write(("\r\x1b[K" if self.tty else "") + f"{self.label}: {message} in {el:,.1f} s\n")
+
+    def _write(self, text: str) -> None:
+        """Write and flush; a display that went away (a closed pipe, a full disk behind a
+        redirect) switches the display off instead of stopping the run."""
+        try:
+            self.stream.write(text)
+            self.stream.flush()
+        except (OSError, ValueError):
+            self.enabled = False

@@ -33,7 +33,7 @@ from typing import Any
 
 import numpy as np
 
-from ..errors import InputError, VerificationError
+from ..errors import InputError, LatgreenError, VerificationError
 from ..quantities import Provider
 from ..rounding import agreement_digits
 from .render import Chunk, RowBlock, merge, render
@@ -87,7 +87,7 @@ def _pool(workers: int, progress: Any) -> Pool:
     if "fork" not in multiprocessing.get_all_start_methods() or not hasattr(
             signal, "pthread_sigmask"):  # pragma: no cover - not POSIX
         return multiprocessing.get_context("spawn").Pool(workers, initializer=init_worker,
-                                                         initargs=(progress,))
+                                                         initargs=(progress, os.getpid()))
     ctx = multiprocessing.get_context("fork")
     old = signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGINT})
     try:
@@ -95,7 +95,8 @@ def _pool(workers: int, progress: Any) -> Pool:
             # Python 3.12+ warns about fork in a process with threads (numpy's BLAS pool);
             # the workers only run our pure functions, and take no lock those threads hold
             warnings.simplefilter("ignore", DeprecationWarning)
-            return ctx.Pool(workers, initializer=init_worker, initargs=(progress,))
+            return ctx.Pool(workers, initializer=init_worker,
+                            initargs=(progress, os.getpid()))
     finally:
         signal.pthread_sigmask(signal.SIG_SETMASK, old)
 
@@ -220,7 +221,8 @@ def run_units(provider: Provider, extent: int, digits: int, verify: str, with_ex
                     on_rows, save_dir)
         return
     progress = _progress_queue()
-    pool = _pool(workers, progress)
+    pool = _pool(min(workers, len(todo)), progress)
+    started = list(getattr(pool, "_pool", ()))  # the worker processes, to notice a death
     ok = False
     try:
         jobs = [(i, args(i)) if save_dir is None else (i, args(i), str(save_dir))
@@ -233,15 +235,69 @@ def run_units(provider: Provider, extent: int, digits: int, verify: str, with_ex
                     break
                 except multiprocessing.TimeoutError:
                     _drain(progress, on_rows)
+                    _check_alive(started)
             _drain(progress, on_rows)
             on_unit(i, ch)
         ok = True
+    except WorkerDied:
+        _abandon(pool, started)
+        raise
     finally:
         if ok:
             pool.close()
-        else:
+            pool.join()
+        elif not getattr(pool, "_abandoned", False):
             pool.terminate()
-        pool.join()
+            pool.join()
+
+
+class WorkerDied(LatgreenError):
+    """A worker process ended without finishing its unit (killed, out of memory): the pool
+    would wait for its result for ever."""
+
+
+def _abandon(pool: Pool, started: Sequence[Any]) -> None:
+    """Kill every worker and leave the pool: after a worker died, Pool.terminate() can wait
+    for ever on the task queue's lock (a killed process may hold it, and the worker started
+    in its place takes it).  The pool's exit-time clean-up would do the same, so it is
+    cancelled; its threads are daemons.  The thread that starts replacement workers is
+    stopped first (one started after the kill below would outlive the build)."""
+    handler = getattr(pool, "_worker_handler", None)
+    notifier = getattr(pool, "_change_notifier", None)
+    if handler is not None:
+        handler._state = "TERMINATE"  # what Pool.terminate sets: the thread's loop ends
+        for _ in range(20):
+            if notifier is not None:
+                notifier.put(None)
+            handler.join(0.5)
+            if not handler.is_alive():
+                break
+    # every child left (a worker started in place of the dead one included): one still
+    # alive at exit would be sent SIGTERM and waited for, and a worker forked from a thread
+    # may hang before it can act on SIGTERM
+    for _ in range(3):
+        alive = [p for p in {*started, *getattr(pool, "_pool", ()),
+                             *multiprocessing.active_children()} if p.exitcode is None]
+        if not alive:
+            break
+        for p in alive:
+            p.kill()
+        for p in alive:
+            p.join(5)
+    fin = getattr(pool, "_terminate", None)
+    if fin is not None and hasattr(fin, "cancel"):
+        fin.cancel()
+    pool._state = "TERMINATE"  # type: ignore[attr-defined]  # no "unclosed pool" warning
+    pool._abandoned = True  # type: ignore[attr-defined]
+
+
+def _check_alive(procs: Sequence[Any]) -> None:
+    for p in procs:
+        code = p.exitcode
+        if code:
+            how = f"was killed by signal {-code}" if code < 0 else f"exited with status {code}"
+            raise WorkerDied(f"a worker process {how} (out of memory?) before finishing its "
+                             "work unit")
 
 
 def _run_serial(provider: Provider, extent: int, digits: int, verify: str, with_exact: bool,

@@ -133,17 +133,41 @@ class _Hashing(io.RawIOBase):
         super().close()
 
 
-def check_output_dir(out: Path, force: bool) -> None:
-    """Refuse an existing non-empty directory (unless force), a file in the way, or a parent
-    we cannot write to — before any work starts."""
-    if out.exists() and not out.is_dir():
+def check_output_dir(out: Path | str, force: bool) -> Path:
+    """Refuse, before any work starts, an output path that names no new directory (empty,
+    ``.``, ``..``, a root, the current directory or one of its ancestors), a symbolic link
+    (a table is never written through a link), an existing non-empty directory (unless
+    force), a file in the way, or a parent we cannot write to.  Returns the absolute path of
+    the output directory (its parent resolved), whose hidden siblings ``.NAME.*`` hold the
+    staging directory and the checkpoint."""
+    if str(out) == "":
+        raise InputError("the output path is empty: name the directory to create")
+    out = Path(out)
+    if out.name in ("", ".", ".."):
+        raise InputError(f"the output path {out} names no new directory (not '.', '..' or a "
+                         "root): give the name of the directory to create")
+    try:
+        if out.is_symlink():
+            raise InputError(f"{out} is a symbolic link: give the directory itself (a table "
+                             "is never written through a link)")
+        target = out.parent.resolve() / out.name
+    except (OSError, RuntimeError) as e:  # RuntimeError: a symlink loop on the way
+        raise InputError(f"cannot use the output path {out}: "
+                         f"{getattr(e, 'strerror', None) or e}") from None
+    try:
+        here: Path | None = Path.cwd().resolve()
+    except OSError:  # the current directory was removed: it cannot be the output
+        here = None
+    if here is not None and (target == here or target in here.parents):
+        raise InputError(f"the output path {out} is the current directory or one of its "
+                         "parents: give the name of a new directory")
+    if target.exists() and not target.is_dir():
         raise InputError(f"{out} exists and is not a directory")
-    if out.is_dir() and any(out.iterdir()) and not force:
+    if target.is_dir() and any(target.iterdir()) and not force:
         raise InputError(f"output directory {out} exists and is not empty (use --force to "
                          "replace it)")
-    parent = out.resolve().parent
-    probe = parent
-    while not probe.exists():
+    probe = target.parent
+    while not probe.exists() and not probe.is_symlink():
         probe = probe.parent
     if not probe.is_dir():
         raise InputError(f"cannot write to {probe}: not a directory")
@@ -151,31 +175,63 @@ def check_output_dir(out: Path, force: bool) -> None:
         tempfile.TemporaryDirectory(prefix=".latgreen-probe-", dir=probe).cleanup()
     except OSError as e:
         raise InputError(f"cannot write to {probe}: {e.strerror}") from None
+    return target
+
+
+def make_dirs(path: Path) -> list[Path]:
+    """``mkdir -p path``, returning the directories it created (outermost first), so that a
+    failed run can remove them again (:func:`remove_dirs`)."""
+    missing = []
+    p = path
+    while not p.exists():
+        missing.append(p)
+        p = p.parent
+    created = []
+    try:
+        for d in reversed(missing):
+            d.mkdir()
+            created.append(d)
+    except OSError:
+        remove_dirs(created)
+        raise
+    return created
+
+
+def remove_dirs(dirs: list[Path]) -> None:
+    """Remove the directories :func:`make_dirs` created, innermost first, while empty."""
+    for d in reversed(dirs):
+        try:
+            d.rmdir()
+        except OSError:
+            return
 
 
 def _staged(out: Path, force: bool, fill: Callable[[Path], dict[str, Any]]) -> dict[str, Any]:
     """Run ``fill(tmp)`` (which writes the data files and returns the descriptor) in a fresh
     temporary directory beside ``out``, write the descriptor, then move the directory into
-    place.  On any error or interruption the temporary directory is removed and ``out`` is
-    left as it was."""
-    check_output_dir(out, force)
-    parent = out.resolve().parent
+    place.  On any error or interruption the temporary directory (and any parent directory
+    made for it) is removed and ``out`` is left as it was."""
+    target = check_output_dir(out, force)
+    parent = target.parent
+    created: list[Path] = []
     try:
-        parent.mkdir(parents=True, exist_ok=True)
-        tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.tmp-", dir=parent))
+        created = make_dirs(parent)
+        tmp = Path(tempfile.mkdtemp(prefix=f".{target.name}.tmp-", dir=parent))
         umask = os.umask(0)
         os.umask(umask)
         os.chmod(tmp, 0o777 & ~umask)  # mkdtemp makes it private; a table is for sharing
     except OSError as e:
+        remove_dirs(created)
         raise InputError(f"cannot write to {parent}: {e.strerror}") from None
     try:
         descriptor = fill(tmp)
         with open(tmp / "datapackage.json", "w", encoding="utf-8", newline="\n") as f:
             json.dump(descriptor, f, indent=2, ensure_ascii=False)
             f.write("\n")
-        _replace_dir(tmp, out)
+        _replace_dir(tmp, target)
     except BaseException:
         shutil.rmtree(tmp, ignore_errors=True)
+        remove_dirs(created)
         raise
     return descriptor
 
@@ -193,14 +249,20 @@ def write_table(out: Path, lattice: Table, quantity: str, chunks: Iterable[Chunk
 
 
 def _replace_dir(tmp: Path, out: Path) -> None:
+    """Move ``tmp`` to ``out`` (an absolute path whose last component is no link), putting
+    an existing ``out`` aside first and back if the move fails."""
     if out.exists():
         if out.is_dir() and not any(out.iterdir()):
             out.rmdir()
         else:
-            old = Path(tempfile.mkdtemp(prefix=f".{out.name}.old-", dir=out.resolve().parent))
+            old = Path(tempfile.mkdtemp(prefix=f".{out.name}.old-", dir=out.parent))
             old.rmdir()
             os.rename(out, old)
-            os.rename(tmp, out)
+            try:
+                os.rename(tmp, out)
+            except BaseException:
+                os.rename(old, out)
+                raise
             shutil.rmtree(old, ignore_errors=True)
             return
     os.rename(tmp, out)

@@ -21,10 +21,19 @@ from .build import (
     run_units,
     unit_count,
 )
-from .checkpoint import Checkpoint
-from .export import Keys, check_output_dir, table_id, write_energy_table, write_table
+from .checkpoint import Checkpoint, unit_shapes
+from .export import (
+    Keys,
+    _fields,
+    check_output_dir,
+    table_id,
+    write_energy_table,
+    write_table,
+)
+from .render import Chunk
 
 MAX_EXTENT = 1_000_000
+MAX_WORKERS_PER_CORE = 8
 
 
 def available_memory() -> int:
@@ -103,9 +112,8 @@ def make_table(req: TableRequest) -> dict[str, Any]:
         raise InputError(f"--verify fast is not available for {req.quantity} tables (there is "
                          "no float64 quadrature of complex G yet): every row is checked at "
                          "full digits")
-    out = Path(req.out)
-    check_output_dir(out, req.force)
-    probe = out.resolve().parent
+    out = check_output_dir(req.out, req.force)
+    probe = out.parent
     while not probe.exists():
         probe = probe.parent
     need = provider.output_estimate(extent, digits, req.with_exact)
@@ -142,9 +150,7 @@ def make_table(req: TableRequest) -> dict[str, Any]:
             "check": "tanh-sinh quadrature of the reduced one-dimensional integral at full "
                      "digits (of each component) for every row",
         }
-    workers = default_workers() if req.workers is None else req.workers
-    if workers < 1:
-        raise InputError(f"workers must be at least 1, got {workers}")
+    workers = default_workers() if req.workers is None else check_workers(req.workers)
     if sites < provider.parallel_min_sites and req.scheduler is None:
         workers = 1
     params = {"lattice": lat.name, "quantity": req.quantity, "extent": extent,
@@ -157,21 +163,35 @@ def make_table(req: TableRequest) -> dict[str, Any]:
             raise InputError(f"an interrupted build of this table is kept at {ckpt.dir}: "
                              "add --resume to continue it, or --force to start over")
         ckpt.remove()
-    units: list[tuple[int, int]] | None = None
     sizes = provider.batch_sizes(extent)
+    coords, fields = len(lat.coordinate_names), len(_fields(lat, provider.complex_valued))
+
+    def plan(parts: int, parallel: bool) -> list[tuple[int, int]]:
+        costs = provider.batch_costs(extent, digits, verify) if parallel else None
+        return plan_units(sizes, parts, costs, provider.prefix_cost)
+
     if req.resume and ckpt.exists():
-        old, units = ckpt.plan()
+        old, planning, units = ckpt.plan()
         if old != params:
             raise InputError(f"the interrupted build at {ckpt.dir} was made with other "
                              f"parameters ({_params_text(old)}); use --force to start over")
-        done = ckpt.done(len(units))
+        if units != plan(planning["parts"], planning["parallel"]):
+            raise InputError(f"the work plan in {ckpt.dir} is not the plan of this table "
+                             "(edited, or made by another version of latgreen); use --force "
+                             "to start over")
+        shapes = unit_shapes(provider.batch_sites(extent), units, ckpt.kept(len(units)))
+        rejected = ckpt.done(shapes, coords, fields - coords - 2)
+        if rejected:
+            i, why = rejected[0]
+            bar.note(f"{len(rejected)} saved work unit(s) do not hold what this table puts "
+                     f"there (unit {i}: {why}); computing them again")
+        done = set(ckpt.valid)
     else:
         parts = unit_count(_cluster_size(req.scheduler) if req.scheduler else workers,
                            len(sizes), need, req.scheduler is not None)
         parallel = req.scheduler is not None or workers > 1
-        costs = provider.batch_costs(extent, digits, verify) if parallel else None
-        units = plan_units(sizes, parts, costs, provider.prefix_cost)
-        ckpt.start(params, units)
+        units = plan(parts, parallel)
+        ckpt.start(params, {"parts": parts, "parallel": parallel}, units)
         done = set()
     bar.advance(sum(sum(sizes[a:b]) for i, (a, b) in enumerate(units) if i in done))
     todo = [i for i in range(len(units)) if i not in done]
@@ -180,10 +200,9 @@ def make_table(req: TableRequest) -> dict[str, Any]:
                   on_unit=ckpt.save, on_rows=bar.advance, workers=workers,
                   scheduler=req.scheduler, save_dir=ckpt.dir)
         descriptor = write_table(out, lat, req.quantity,
-                                 (ckpt.chunk(i) for i in range(len(units))), meta,
-                                 force=req.force)
+                                 _all_rows(ckpt, len(units), sites), meta, force=req.force)
     except BaseException as e:
-        kept = len(ckpt.done(len(units))) if ckpt.exists() else 0
+        kept = len(ckpt.kept(len(units))) if ckpt.exists() else 0
         if kept:
             e.add_note(f"{kept} of {len(units)} work units are kept in {ckpt.dir}; the same "
                        "command with --resume continues from them")
@@ -191,12 +210,45 @@ def make_table(req: TableRequest) -> dict[str, Any]:
             ckpt.remove()
         raise
     ckpt.remove()
-    bar.finish(f"{sites:,} rows written to {out}")
+    bar.finish(f"{sites:,} rows written to {req.out}")
     return descriptor
 
 
+def check_workers(workers: object) -> int:
+    """At least 1, and at most MAX_WORKERS_PER_CORE per core of this machine (each worker
+    is a process running its own recurrence: a thousand would exhaust the memory)."""
+    if isinstance(workers, bool) or not isinstance(workers, int):
+        raise InputError(f"workers must be an integer, got {workers!r}")
+    if workers < 1:
+        raise InputError(f"workers must be at least 1, got {workers}")
+    cores = default_workers()
+    if workers > MAX_WORKERS_PER_CORE * cores:
+        raise InputError(f"workers {workers} is more than {MAX_WORKERS_PER_CORE} per core of "
+                         f"this machine ({cores} cores)")
+    return workers
+
+
+def _all_rows(ckpt: Checkpoint, count: int, sites: int) -> Iterator[Chunk]:
+    """The units of the checkpoint in order, refusing (before the table is moved into
+    place) a total that is not the region's row count."""
+    total = 0
+    for i in range(count):
+        ch = ckpt.chunk(i)
+        total += ch.rows
+        yield ch
+    if total != sites:
+        raise InputError(f"the work units in {ckpt.dir} hold {total:,} rows where the region "
+                         f"has {sites:,}; use --force to start over")
+
+
 def _params_text(p: dict[str, Any]) -> str:
-    return ", ".join(f"{k} {v}" for k, v in p.items())
+    """The parameters of a checkpoint on one short line (they come from a file).
+
+    >>> _params_text({"lattice": "square", "extent": 8, "x": "a\\nb"})
+    'lattice square, extent 8, x a b'
+    """
+    text = " ".join(", ".join(f"{k} {v}" for k, v in p.items()).split())
+    return text if len(text) <= 300 else text[:300] + "..."
 
 
 def _cluster_size(scheduler: str) -> int:
@@ -207,6 +259,11 @@ def _cluster_size(scheduler: str) -> int:
     except ImportError:
         raise InputError("--scheduler needs the 'distributed' package (pip install "
                          "'latgreen[distributed]')") from None
+    _, _, rest = scheduler.rpartition("://")
+    port = rest.rpartition(":")[2]
+    if port.isdigit() and not 0 < int(port) < 65536:
+        raise InputError(f"cannot reach the Dask scheduler at {scheduler[:80]}: port {port} is "
+                         "not a TCP port (1 to 65535)")
     try:
         with Client(scheduler, timeout="5s") as c:
             return max(1, len(c.scheduler_info().get("workers", {})))

@@ -1,23 +1,59 @@
 """What worker processes run.  Kept free of heavy imports at module level: a worker sets
 SIGINT aside (:func:`ignore_sigint`) before it imports the numerical libraries, so a Ctrl-C
-that reaches the whole process group is handled by the main process alone."""
+that reaches the whole process group is handled by the main process alone.
+
+A worker dies with the main process, even one killed by SIGKILL (which runs no clean-up):
+on Linux the kernel sends it SIGKILL when its parent dies (``PR_SET_PDEATHSIG``), and
+everywhere it checks between batches that its parent is still the one that started it (an
+orphan is re-parented), so no worker goes on computing, or writing into a checkpoint that a
+resumed build is filling, after the build is gone."""
 
 from __future__ import annotations
 
+import os
 import signal
+import sys
 from typing import Any
 
 _progress: Any = None
+_parent: int | None = None  # the pid of the process that started this worker
+
+PR_SET_PDEATHSIG = 1  # from <linux/prctl.h>
 
 
-def init_worker(progress: Any = None) -> None:
-    """Worker start-up: signals as below, and the queue to report finished rows to."""
-    global _progress
+def init_worker(progress: Any = None, parent: int | None = None) -> None:
+    """Worker start-up: signals as below, death with the ``parent`` process, and the queue
+    to report finished rows to."""
+    global _progress, _parent
     _progress = progress
     ignore_sigint()
+    if parent is not None:
+        _parent = parent
+        die_with_parent()
+        orphan_check()  # the parent may have died before the kernel was told
+
+
+def die_with_parent() -> None:
+    """Ask the kernel (Linux) to SIGKILL this process when its parent dies."""
+    if not sys.platform.startswith("linux"):  # pragma: no cover - the ppid check covers it
+        return
+    try:
+        import ctypes
+
+        libc = ctypes.CDLL(None, use_errno=True)
+        libc.prctl(PR_SET_PDEATHSIG, signal.SIGKILL, 0, 0, 0)
+    except (OSError, AttributeError):  # pragma: no cover - no prctl: the ppid check
+        pass
+
+
+def orphan_check() -> None:
+    """End this worker at once if the process that started it is gone."""
+    if _parent is not None and os.getppid() != _parent:
+        os._exit(1)
 
 
 def _report(k: int) -> None:
+    orphan_check()
     if _progress is not None:
         _progress.put(k)
 
@@ -34,6 +70,7 @@ def unit_job(args: UnitArgs, save_dir: str | None = None, index: int = 0) -> Any
     from .build import rows
     from .render import merge, render
 
+    orphan_check()
     lattice, quantity, energy, extent, digits, verify, with_exact, start, stop = args
     p = get_provider(lattice, quantity, energy)
     blocks = rows(p, extent, digits, verify, with_exact, start, stop, on_batch=_report)
