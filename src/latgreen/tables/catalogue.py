@@ -142,11 +142,12 @@ def build_catalogue(root: Path, specs: list[TableSpec], rebuild: bool = False,
                     progress: bool = True, on_outcome: Any = None) -> list[Outcome]:
     """Build every table of ``specs`` into the catalogue ``root`` (under its lock); one
     table's failure is recorded in its :class:`Outcome` and the next table goes on."""
-    from .versions import catalogue_lock, check_root
+    from .versions import catalogue_lock, check_root, load_catalogue
 
     root = check_root(root, create=True)
     out = []
     with catalogue_lock(root):
+        load_catalogue(root)  # an unreadable index stops the run before any work
         for spec in specs:
             try:
                 o = build_one(root, spec, rebuild, progress)
