@@ -36,7 +36,6 @@ from __future__ import annotations
 
 import contextlib
 import fcntl
-import hashlib
 import json
 import os
 import re
@@ -331,13 +330,11 @@ def data_hashes(desc: dict[str, Any]) -> dict[str, str]:
 
 
 def file_sha256(path: Path) -> tuple[str, int]:
-    h = hashlib.sha256()
-    n = 0
-    with open(path, "rb") as f:
-        for block in iter(lambda: f.read(1 << 20), b""):
-            h.update(block)
-            n += len(block)
-    return "sha256:" + h.hexdigest(), n
+    """(``sha256:<hex>``, byte count) of a file (the hashing of ``latgreen verify``)."""
+    from .verify import _sha256
+
+    digest, n = _sha256(path)
+    return "sha256:" + digest, n
 
 
 def check_hashes(dir_: Path, desc: dict[str, Any]) -> None:
