@@ -73,6 +73,8 @@ def test_publish_rechecks_hashes_and_the_descriptor(tmp_path):
     assert p.returncode == 2 and "disagrees with its parameters" in p.stderr
     p = run_cli("publish", str(src), "--into", str(src / "values.csv"))
     assert p.returncode == 2 and "not a directory" in p.stderr
+    p = run_cli("publish", str(src), "--into", str(src))
+    assert p.returncode == 2 and "is a table, not a catalogue" in p.stderr
 
 
 SPEC = """

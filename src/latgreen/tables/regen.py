@@ -138,9 +138,9 @@ def compare(old_desc: dict[str, Any], old_dir: Path, new_dir: Path, digits: int)
                          ", exact") from None
     new = {tuple(r[i] for i in nk_i): r for r in new_rows if len(r) == len(nh)}
     bad: list[str] = []
-    for r in old_rows:
+    for line, r in enumerate(old_rows, 2):
         if len(r) != len(oh):
-            bad.append(f"line {len(bad) + 2}: malformed row")
+            bad.append(f"values.csv line {line}: malformed row")
             continue
         key = tuple(r[i] for i in ok_i)
         where = f"{'site' if q in ('resistance', 'green') else keys[0]} " + (

@@ -200,7 +200,8 @@ def _entry(entry: object, where: str) -> TableSpec:
         raise InputError(f"{where}: key 'quantity': {q!r} is not one of "
                          f"{', '.join(QUANTITY_KEYS)}")
     required, optional = QUANTITY_KEYS[q]
-    label = f"{where} ({entry.get('lattice', 'cubic')}-{q})"
+    lat = entry.get("lattice", "cubic" if q == "return-probability" else "?")
+    label = f"{where} ({lat}-{q})"
     for key in sorted(entry):
         if key not in required | optional:
             raise InputError(f"{label}: unknown key {key!r} for a {q} table (keys: "

@@ -101,6 +101,9 @@ def check_root(root: Path, create: bool = False) -> Path:
     if root.exists() and not root.is_dir():
         raise InputError(f"{root} is not a directory (a catalogue is a directory with "
                          f"{CATALOGUE_FILE})")
+    if (root / "datapackage.json").exists():
+        raise InputError(f"{root} is a table, not a catalogue (publish it into one: latgreen "
+                         f"publish {root} --into ROOT)")
     if not root.exists():
         if not create:
             raise InputError(f"no catalogue at {root}: the directory does not exist")
