@@ -295,7 +295,7 @@ def test_return_probability_table(tmp_path):
     # one row per lattice, through the same export as the site tables; sc against A086230
     import csv
 
-    from latgreen.tables.make import make_return_probability_table
+    from latgreen.tables.catalogue import make_return_probability_table
 
     d = make_return_probability_table(tmp_path / "rp", ("sc", "bcc", "fcc"), 30)
     assert d["name"] == "cubic-return-probability"

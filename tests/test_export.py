@@ -160,7 +160,13 @@ def _start_build(tmp_path, *extra):
                              "300", "--digits", "40", "--verify", "fast", "--out",
                              str(tmp_path / "big"), *extra],
                             env=env, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,
-                            start_new_session=True)
+                            start_new_session=True, preexec_fn=_default_sigint)
+
+
+def _default_sigint():
+    # a test run started in the background without job control inherits SIGINT ignored, and
+    # Python then installs no Ctrl-C handler in the child: restore what a terminal gives
+    signal.signal(signal.SIGINT, signal.SIG_DFL)
 
 
 def _wait_for_units(tmp_path, count, timeout=90):

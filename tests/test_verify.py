@@ -14,7 +14,8 @@ import pytest
 
 from conftest import ROOT
 from inprocess import cli
-from latgreen.tables.make import TableRequest, make_return_probability_table, make_table
+from latgreen.tables.catalogue import make_return_probability_table
+from latgreen.tables.make import TableRequest, make_table
 from latgreen.tables.verify import verify_table
 
 SQUARE_ROWS = 45  # canonical square sites 0 <= n <= m <= 8: 9 * 10 / 2 (common practice)

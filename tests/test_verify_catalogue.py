@@ -11,7 +11,8 @@ import shutil
 import pytest
 
 from inprocess import cli
-from latgreen.tables.make import TableRequest, make_return_probability_table, make_table
+from latgreen.tables.catalogue import make_return_probability_table
+from latgreen.tables.make import TableRequest, make_table
 
 
 def _entry(root, tid, v, lattice, quantity, digits, extent):

@@ -14,7 +14,7 @@ import sys
 import threading
 from collections.abc import Callable, Sequence
 from pathlib import Path
-from typing import NoReturn
+from typing import Any, NoReturn
 
 from tabulate import tabulate
 
@@ -24,7 +24,6 @@ from .lattices import LATTICES
 from .quantities import MAX_DIGITS, QUANTITIES, dos, green, resistance, return_probability
 from .tables.make import (
     TableRequest,
-    build_catalogue,
     check_region,
     make_dos_table,
     make_table,
@@ -156,9 +155,23 @@ def _parser() -> argparse.ArgumentParser:
     c.add_argument("--json", action="store_true")
     c.add_argument("--quiet", action="store_true")
 
-    b = sub.add_parser("build", help="build the default catalogue of tables into ./tables/")
+    b = sub.add_parser("build", help="build a catalogue of tables (default: ours, into "
+                       "./tables/); only tables whose spec or software changed are computed")
+    b.add_argument("--spec", type=Path, default=None, metavar="FILE",
+                   help="a TOML spec of the tables (default: the catalogue shipped with "
+                        "latgreen; format in the README)")
     b.add_argument("--out", type=Path, default=Path("tables"), help="catalogue directory")
+    b.add_argument("--rebuild", action="store_true",
+                   help="compute even the tables that are up to date (a new version is still "
+                        "published only where the data changed)")
     b.add_argument("--quiet", action="store_true")
+
+    pb = sub.add_parser("publish", help="add a table made with 'latgreen table' to a "
+                        "catalogue as the next version of its table id")
+    pb.add_argument("dir", type=Path, help="the table's directory (it is copied, never moved "
+                    "or modified)")
+    pb.add_argument("--into", type=Path, required=True, metavar="ROOT",
+                    help="the catalogue directory (created if need be)")
 
     au = sub.add_parser("audit", help="compare another code's values with our references")
     au.add_argument("file", type=Path, help="CSV or JSON file of the other code's values")
@@ -183,12 +196,22 @@ def _parser() -> argparse.ArgumentParser:
     au.add_argument("--plot", type=Path, default=None, metavar="FILE.png",
                     help="agreeing digits against distance from the origin")
 
-    rg = sub.add_parser("regen", help="recompute a published table version at more digits "
-                        "as the next version, proving the old digits stand")
-    rg.add_argument("dir", type=Path, help="a published version, ROOT/<table-id>/vN")
+    rg = sub.add_parser("regen", help="recompute the current version of a published table at "
+                        "more digits as the next version, proving the old digits stand")
+    rg.add_argument("dir", type=Path, nargs="?", default=None,
+                    help="a table of a catalogue: ROOT/<table-id> or its current version "
+                         "ROOT/<table-id>/vN")
+    rg.add_argument("--all", type=Path, default=None, metavar="ROOT",
+                    help="every table of the catalogue ROOT below --digits (for cron: lock, "
+                         "log, idempotent)")
     rg.add_argument("--digits", type=_digits, required=True)
     rg.add_argument("--extent", type=_extent, default=None,
-                    help="a larger extent (default: the old one)")
+                    help="a larger extent (default: the old one; tables over sites)")
+    rg.add_argument("--verify", choices=("auto", "full", "fast"), default="auto",
+                    help="check of the new version (auto: at least the old one's; a weaker "
+                         "check than the old one's is refused)")
+    rg.add_argument("--log", type=Path, default=None, metavar="FILE",
+                    help="with --all: the log (default ROOT/regenerate.log)")
     rg.add_argument("--quiet", action="store_true")
     rg.add_argument("--json", action="store_true", help="print the comparison report as JSON")
 
@@ -303,15 +326,59 @@ def _cmd_check(a: argparse.Namespace) -> int:
     return 1 if rep.failures else 0
 
 
+BUSY = 3  # exit status: another run holds the catalogue's lock
+
+
+def _outcome_row(o: Any) -> list[Any]:
+    d = o.descriptor or {}
+    lg = d.get("latgreen", {})
+    cc = lg.get("cross_check", {})
+    where = lg.get("extent") if lg.get("extent") is not None else lg.get("energies", "")
+    return [o.table_id, o.version or "", lg.get("digits", ""), where, cc.get("rows", ""),
+            cc.get("min_agreement_digits", ""), o.state]
+
+
 def _cmd_build(a: argparse.Namespace) -> int:
-    results = build_catalogue(Path(a.out), progress=not a.quiet)
-    rows = []
-    for state, d in results:
-        cc = d["latgreen"]["cross_check"]
-        rows.append([d["name"], d["latgreen"]["extent"], d["latgreen"]["digits"], cc["rows"],
-                     cc["min_agreement_digits"], state])
-    print(tabulate(rows, headers=["table", "extent", "digits", "rows", "min agreement",
-                                  "state"]))
+    import time
+
+    from .tables.catalogue import build_catalogue
+    from .tables.regen import exit_status
+    from .tables.spec import default_spec, load_spec
+    from .tables.versions import CatalogueBusy
+
+    specs = default_spec() if a.spec is None else load_spec(a.spec)
+    t0 = time.monotonic()
+
+    def said(o: Any) -> None:
+        if o.failed:
+            print(f"latgreen: {o.state}: {o.table_id}: {o.message}", file=sys.stderr)
+        elif not a.quiet:
+            print(f"latgreen: {o.table_id}: {o.state}", file=sys.stderr)
+
+    try:
+        outcomes = build_catalogue(Path(a.out), specs, a.rebuild, not a.quiet, said)
+    except CatalogueBusy as e:
+        print(f"latgreen: refused: {e}", file=sys.stderr)
+        return BUSY
+    print(tabulate([_outcome_row(o) for o in outcomes],
+                   headers=["table", "version", "digits", "extent/energies", "rows",
+                            "min agreement", "state"], disable_numparse=True))
+    if not a.quiet:
+        print(f"latgreen: {len(outcomes)} table(s) in {time.monotonic() - t0:.0f} s",
+              file=sys.stderr)
+    return exit_status(outcomes)
+
+
+def _cmd_publish(a: argparse.Namespace) -> int:
+    from .tables.versions import CatalogueBusy, publish_dir
+
+    try:
+        tid, state, d = publish_dir(a.dir, a.into)
+    except CatalogueBusy as e:
+        print(f"latgreen: refused: {e}", file=sys.stderr)
+        return BUSY
+    print(f"{tid}: {state} ({d['latgreen']['digits']} digits, "
+          f"{d['latgreen']['cross_check']['rows']} rows) in {a.into}")
     return 0
 
 
@@ -358,9 +425,27 @@ def _cmd_audit(a: argparse.Namespace) -> int:
 
 
 def _cmd_regen(a: argparse.Namespace) -> int:
-    from .tables.regen import regenerate
+    from .tables.regen import exit_status, regenerate, regenerate_all
+    from .tables.versions import CatalogueBusy
 
-    rep = regenerate(a.dir, a.digits, a.extent, progress=not a.quiet)
+    if (a.dir is None) == (a.all is None):
+        raise InputError("regen takes either a table (ROOT/<table-id>[/vN]) or --all ROOT")
+    if a.all is not None and a.extent is not None:
+        raise InputError("--extent applies to one table, not to --all")
+    if a.dir is not None and a.log is not None:
+        raise InputError("--log goes with --all")
+    try:
+        if a.all is not None:
+            outcomes = regenerate_all(a.all, a.digits, a.verify, a.log, progress=False)
+            if a.json:
+                print(json.dumps([{"table": o.table_id, "state": o.state,
+                                   "version": o.version, "message": o.message}
+                                  for o in outcomes]))
+            return exit_status(outcomes)
+        rep = regenerate(a.dir, a.digits, a.extent, a.verify, progress=not a.quiet)
+    except CatalogueBusy as e:
+        print(f"latgreen: refused: {e}", file=sys.stderr)
+        return BUSY
     if a.json:
         print(json.dumps(rep))
     else:
@@ -415,6 +500,7 @@ COMMANDS = {"resistance": _cmd_resistance, "green": _cmd_green, "dos": _cmd_dos,
             "return-probability": _cmd_return_probability,
             "table": _cmd_table, "check": _cmd_check, "build": _cmd_build,
             "audit": _cmd_audit, "verify": _cmd_verify, "regen": _cmd_regen,
+            "publish": _cmd_publish,
             "lattices": _cmd_lattices}
 
 

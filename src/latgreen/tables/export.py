@@ -603,7 +603,7 @@ def write_energy_table(out: Path, lattice: Lattice, quantity: str,
             tid,
             f"{quantity} of the infinite {lattice.name} lattice at {count} energies "
             f"({meta['energies']}), {meta['digits']} digits",
-            "1", started, ended,
+            meta.get("version", "1"), started, ended,
             {"values.csv": (csv_sink.h.hexdigest(), csv_sink.n),
              "values.json": (json_sink.h.hexdigest(), json_sink.n)},
             dos_fields(lattice.name), ["energy"],

@@ -23,7 +23,6 @@ from .build import (
 )
 from .checkpoint import Checkpoint, unit_shapes
 from .export import (
-    Keys,
     _fields,
     check_output_dir,
     table_id,
@@ -321,87 +320,6 @@ def check_region(lattice: str, extent: int, digits: int, quantity: str = "resist
     return CheckReport(total, worst, worst_site, failures, far)
 
 
-CATALOGUE: tuple[tuple[Any, ...], ...] = (
-    # (lattice, quantity, extent, digits[, verify]); verify defaults to "full".  The cubic
-    # tables say it explicitly: a 50-digit quadrature costs about a second per column (l, m)
-    # there, yet on two worker processes the three tables check every row at 50 digits in a
-    # few minutes (their exact forms rest on identified seeds, so every row's independent
-    # check is worth its time); "fast" would take seconds.
-    ("square", "resistance", 100, 50),
-    ("triangular", "resistance", 60, 50),
-    ("honeycomb", "resistance", 60, 50),
-    ("sc", "resistance", 20, 50, "full"),
-    ("bcc", "resistance", 20, 50, "full"),
-    ("fcc", "resistance", 20, 50, "full"),
-)
-
-
-# tables with one row per lattice: (quantity, lattices, digits)
-SCALAR_TABLES: tuple[tuple[str, tuple[str, ...], int], ...] = (
-    ("return-probability", ("sc", "bcc", "fcc"), 50),
-)
-
-
-def make_return_probability_table(out: Path, lattices: tuple[str, ...], digits: int,
-                                  force: bool = False, version: str = "1") -> dict[str, Any]:
-    """Polya's return probabilities, one row per lattice (sorted by name), written through
-    the same export as the site tables: each value by the closed form, confirmed by the
-    quadrature of G(z; 0) to all its digits."""
-    from ..quantities import return_probability
-    from .render import Chunk
-
-    digits = check_digits(digits)
-    check_output_dir(Path(out), force)
-    csv, js, agrees = [], [], []
-    for lat in sorted(lattices):
-        r = return_probability(lat, digits)
-        row = (lat, r.value, str(r.exact), r.exact.how if r.exact else "", r.error_bound,
-               ";".join(r.methods), r.agreement_digits)
-        csv.append(",".join(map(str, row)) + "\n")
-        js.append(',\n["{}","{}","{}","{}","{}","{}",{}]'.format(*row))
-        agrees.append(r.agreement_digits)
-    keys = sorted(lattices)
-    chunk = Chunk(csv="".join(csv), json="".join(js), rows=len(keys), first=(keys[0],),
-                  last=(keys[-1],), min_agreement=min(agrees), full_rows=len(keys))
-    meta = {"lattice": "cubic", "quantity": "return-probability", "extent": None,
-            "digits": digits, "verify": "full", "version": version,
-            "region": f"one row per lattice: {', '.join(keys)}",
-            "methods": {"primary": "closed form P = 1 - 1/(z G(z; 0)) with G(z; 0) from "
-                                   "Watson's integral in Gamma values, evaluated in fixed "
-                                   "point with a proven error term",
-                        "check": "polar Gauss-Legendre quadrature of G(z; 0) at full digits"}}
-    keys_t = Keys("cubic", ("lattice",), "lattice name (conventions in the README)",
-                  f"Polya's return probability of the random walk on the {', '.join(keys)} "
-                  f"lattices, {digits} digits")
-    return write_table(Path(out), keys_t, "return-probability", [chunk], meta, force=force)
-
-
-def build_catalogue(root: Path, progress: bool = True) -> list[tuple[str, dict[str, Any]]]:
-    """Build every table of the default catalogue; publish a new version under
-    ``root/<table-id>/v<N>/`` only where the data differ from the current version."""
-    from .versions import publish
-
-    out = []
-    for lattice, quantity, extent, digits, *rest in CATALOGUE:
-        verify = rest[0] if rest else "full"
-
-        def build(staging: Path, version: str, lattice: str = lattice, quantity: str = quantity,
-                  extent: int = extent, digits: int = digits,
-                  verify: str = verify) -> dict[str, Any]:
-            req = TableRequest(lattice, quantity, extent, digits, staging, verify=verify,
-                               progress=progress, version=version)
-            return make_table(req)
-
-        out.append(publish(root, table_id(lattice, quantity), build))
-    for quantity, lattices, digits in SCALAR_TABLES:
-        def build_scalar(staging: Path, version: str, lattices: tuple[str, ...] = lattices,
-                         digits: int = digits) -> dict[str, Any]:
-            return make_return_probability_table(staging, lattices, digits, version=version)
-
-        out.append(publish(root, table_id("cubic", quantity), build_scalar))
-    return out
-
-
 DOS_METHODS = {
     "square": {"primary": "closed form K(1 - E^2/16)/(2 pi^2) as a python-flint ball, "
                           "correctly rounded",
@@ -425,7 +343,7 @@ DOS_METHODS = {
 
 
 def make_dos_table(lattice: str, energies: str, digits: int, out: Path, force: bool = False,
-                   progress: bool = True) -> dict[str, Any]:
+                   progress: bool = True, version: str = "1") -> dict[str, Any]:
     """The density of states on an energy grid ``A:B:COUNT`` (exact points), every value
     certified from its closed form and confirmed by the quadrature."""
     from ..energy import parse_energy_grid
@@ -451,12 +369,11 @@ def make_dos_table(lattice: str, energies: str, digits: int, out: Path, force: b
             bar.advance(1)
 
     meta = {"digits": digits, "energies": energies, "grid": [str(E) for E in grid],
-            "methods": DOS_METHODS[lat.name]}
+            "methods": DOS_METHODS[lat.name], "version": version}
     d = write_energy_table(out, lat, "dos", rows(), meta, force=force)
     bar.finish(f"{len(grid):,} rows written to {out}")
     return d
 
 
-__all__ = ["CATALOGUE", "SCALAR_TABLES", "CheckReport", "TableRequest", "VerificationError",
-           "build_catalogue", "check_region", "make_dos_table", "make_return_probability_table",
-           "make_table"]
+__all__ = ["CheckReport", "TableRequest", "VerificationError", "check_region",
+           "make_dos_table", "make_table"]

@@ -525,9 +525,10 @@ _REGION_KEYS = re.compile(r"^one row per lattice: ([a-z]+(?:, [a-z]+)*)$")
 
 def _keys_plan(desc: Descriptor) -> _Plan:
     from ..quantities import check_digits
-    from .make import SCALAR_TABLES, make_return_probability_table
+    from .catalogue import make_return_probability_table
+    from .spec import CUBIC
 
-    quantities = {q: lats for q, lats, _ in SCALAR_TABLES}
+    quantities = {"return-probability": CUBIC}
     if desc.quantity not in quantities:
         raise InputError(f"no one-row-per-lattice table of {show(desc.quantity)}")
     digits = check_digits(desc.digits)
