@@ -220,3 +220,24 @@ def test_cli_dos_grid_with_duplicate_rows_leaves_nothing(tmp_path):
     assert p.returncode == 2 and p.stderr.count("\n") == 1, p.stderr
     assert "repeat" in p.stderr
     assert list(tmp_path.iterdir()) == []
+
+
+@pytest.mark.parametrize("digits", ["٣", "1_0", "10.0", "99999999999999999"])
+def test_cli_digits_in_unicode_or_with_underscores_are_refused(digits):
+    # int('٣') == 3 and int('1_0') == 10: --digits used to accept both
+    p = run_cli("resistance", "square", "1", "0", "--digits", digits, timeout=60)
+    assert p.returncode == 2 and p.stderr.count("\n") == 1, p.stderr
+    assert "digits must be an integer" in p.stderr
+
+
+def test_square_far_site_with_both_coordinates_large_does_not_hang():
+    # (10**30, 10**30) ran the cosine recurrence 10**30 steps (killed after 2 minutes); the
+    # recurrence now starts at a far n.  The far-field expansion confirms the value:
+    # pi R ~ ln r + gamma + (3/2) ln 2 (Cserti, Am. J. Phys. 68, 896 (2000))
+    t = time.perf_counter()
+    r = latgreen.resistance("square", (10**30, 10**30), digits=12)
+    assert time.perf_counter() - t < 10
+    assert r.methods == ("quadrature", "asymptotic")
+    import math
+    want = (math.log(10**30 * math.sqrt(2)) + 0.5772156649015329 + 1.5 * math.log(2)) / math.pi
+    assert abs(float(r.value) - want) < 1e-9
