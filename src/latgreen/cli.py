@@ -9,6 +9,7 @@ from __future__ import annotations
 import argparse
 import json
 import os
+import re
 import signal
 import sys
 import threading
@@ -35,18 +36,22 @@ class _Parser(argparse.ArgumentParser):
         self.exit(2, f"latgreen: error: {message} (see 'latgreen --help')\n")
 
 
+def _whole(what: str, text: str) -> int:
+    """A decimal integer in ASCII digits (int() would also take '٣', '1_0', ' 10 ')."""
+    t = text.strip()
+    if len(t) > 12 or not re.fullmatch(r"[+-]?[0-9]+", t, re.ASCII):
+        shown = text if len(text) <= 40 else text[:37] + "..."
+        raise argparse.ArgumentTypeError(f"{what} must be an integer (digits 0-9, at most 12), got "
+                                         f"{shown!r}")
+    return int(t)
+
+
 def _digits(text: str) -> int:
-    try:
-        return int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"digits must be an integer, got {text!r}") from None
+    return _whole("digits", text)
 
 
 def _extent(text: str) -> int:
-    try:
-        return int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"extent must be an integer, got {text!r}") from None
+    return _whole("extent", text)
 
 
 def _workers(text: str) -> int:

@@ -29,6 +29,7 @@ edges +-6 it is Watson's integral).
 
 from __future__ import annotations
 
+import math
 import re
 from dataclasses import dataclass
 from fractions import Fraction
@@ -37,8 +38,8 @@ from .errors import InputError
 
 MAX_ENERGY_CHARS = 400
 MAX_EXPONENT = 300
-_DEC = r"(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?"
-_NUM = rf"(?:\d+/\d+|{_DEC})"
+_DEC = r"(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?"
+_NUM = rf"(?:[0-9]+/[0-9]+|{_DEC})"
 _RE_REAL = re.compile(rf"^([+-]?{_NUM})$")
 _RE_IMAG = re.compile(rf"^([+-]?)({_NUM})?[ji]$")
 _RE_CPLX = re.compile(rf"^([+-]?{_NUM})([+-])({_NUM})?[ji]$")
@@ -127,6 +128,67 @@ SINGULAR: dict[str, dict[Fraction, str]] = {
 _SYMMETRIC = {"square", "honeycomb"}
 
 
+# the real energies where G(E; r) is not analytic (band edges, van Hove points, band centres,
+# the honeycomb's Dirac point): an energy equal to one is refused or taken as a limit above;
+# one closer to it than MIN_DISTANCE is refused (the methods' cost grows without bound as
+# the singularity is approached, and the quadratures no longer separate the two sides)
+SPECIAL: dict[str, tuple[Fraction, ...]] = {
+    lat: tuple(Fraction(x) for x in pts) for lat, pts in {
+        "square": (-4, 0, 4), "triangular": (-3, -2, 6), "honeycomb": (-3, -1, 0, 1, 3),
+        "sc": (-6, -2, 0, 2, 6), "bcc": (-8, 0, 8), "fcc": (-4, 0, 12)}.items()}
+MIN_DISTANCE_EXP = 8  # |E - special point| >= 10^-8
+MAX_ABS_ENERGY_EXP = 6  # |E| <= 10^6
+MAX_ENERGY_DIGITS = MAX_ENERGY_CHARS  # decimal digits of a numerator or denominator
+
+
+def _sqrt_sci(x: Fraction) -> str:
+    """sqrt(x) of a positive rational, rounded to two digits in scientific notation (for
+    messages; no float overflow or underflow at any size).
+
+    >>> _sqrt_sci(Fraction(1, 10**100)), _sqrt_sci(Fraction(9, 7)), _sqrt_sci(Fraction(10**600))
+    ('1e-50', '1.1e0', '1e300')
+    """
+    lg = (math.log10(x.numerator) - math.log10(x.denominator)) / 2
+    e = math.floor(lg)
+    lead = round(10 ** (lg - e), 1)
+    if lead >= 10:
+        lead, e = 1.0, e + 1
+    return f"{lead:g}e{e}"
+
+
+def check_range(er: Fraction, ei: Fraction, text: str, lattice: str) -> None:
+    """Refuse energies the methods cannot serve within seconds: too many digits, |E| above
+    10^MAX_ABS_ENERGY_EXP, or within 10^-MIN_DISTANCE_EXP of a singular point (SPECIAL)
+    without being on it."""
+    shown = text if len(text) <= 40 else text[:37] + "..."
+    for x in (er, ei):
+        if max(len(str(abs(x.numerator))), len(str(x.denominator))) > MAX_ENERGY_DIGITS:
+            raise InputError(f"energy {shown!r} is too long: numerators and denominators of "
+                             f"at most {MAX_ENERGY_DIGITS} digits")
+    size2 = er * er + ei * ei
+    if size2 > Fraction(10) ** (2 * MAX_ABS_ENERGY_EXP):
+        raise InputError(f"energy {shown!r}: |E| above the limit 1e{MAX_ABS_ENERGY_EXP} (there "
+                         "G(E; r) is the first terms of its 1/E series, and the methods "
+                         "lose their precision)")
+    limit = Fraction(1, 10**MIN_DISTANCE_EXP)
+    for p in SPECIAL.get(lattice, ()):
+        d2 = (er - p) ** 2 + ei * ei
+        if 0 < d2 < limit * limit:
+            dist = _sqrt_sci(d2)
+            raise InputError(
+                f"energy {shown!r} is too close to the singular energy E = {p} of the "
+                f"{lattice} lattice for the methods to separate: distance {dist}; the limit is "
+                f"1e-{MIN_DISTANCE_EXP} (E = {p} itself is "
+                + ("refused" if p in _refused(lattice) else "allowed") + ")")
+
+
+def _refused(lattice: str) -> set[Fraction]:
+    bad = set(SINGULAR.get(lattice, {}))
+    if lattice in _SYMMETRIC:
+        bad |= {-x for x in bad}
+    return bad
+
+
 def check_energy(er: Fraction, ei: Fraction, text: str, lattice: str = "square",
                  quantity: str = "green") -> Energy:
     """The refusals: the lower half plane, and the lattice's singular real energies
@@ -141,6 +203,7 @@ def check_energy(er: Fraction, ei: Fraction, text: str, lattice: str = "square",
         why = bad.get(key)
         if why is not None:
             raise InputError(f"energy {text!r} is {why}")
+    check_range(er, ei, text, lattice)
     return Energy(er, ei)
 
 
@@ -162,6 +225,8 @@ def parse_energy(text: object, lattice: str = "square", quantity: str = "green")
                          "Fraction instead")
     if isinstance(text, int | Fraction):
         return check_energy(Fraction(text), Fraction(0), str(text), lattice, quantity)
+    if type(text).__module__.startswith("numpy") and hasattr(text, "__index__"):
+        return check_energy(Fraction(int(text)), Fraction(0), str(text), lattice, quantity)
     if not isinstance(text, str):
         raise InputError(f"cannot use {text!r} as an energy: pass a string such as '9/2' or "
                          "'1.5+0.5j'")
@@ -170,7 +235,7 @@ def parse_energy(text: object, lattice: str = "square", quantity: str = "green")
         s = s[1:-1]
     # an exponent such as 1e999999999 would build a huge integer before any check
     if len(s) > MAX_ENERGY_CHARS or any(abs(int(x)) > MAX_EXPONENT
-                                        for x in re.findall(r"[eE]([+-]?\d+)", s)):
+                                        for x in re.findall(r"[eE]([+-]?[0-9]+)", s)):
         raise InputError(f"energy {text[:40]!r}{'...' if len(text) > 40 else ''} is too long: "
                          f"at most {MAX_ENERGY_CHARS} characters and exponents up to "
                          f"+-{MAX_EXPONENT}")
@@ -191,34 +256,57 @@ def parse_energy(text: object, lattice: str = "square", quantity: str = "green")
     return check_energy(er, ei, text, lattice, quantity)
 
 
-def parse_energy_grid(text: str, lattice: str = "square", quantity: str = "dos"
+MAX_GRID_POINTS = 10_000  # a dos table's rows (each a few seconds at 30+ digits)
+_COUNT = re.compile(r"[+-]?[0-9]+", re.ASCII)
+
+
+def parse_energy_grid(text: object, lattice: str = "square", quantity: str = "dos"
                       ) -> list[Energy]:
-    """``A:B:COUNT`` -> COUNT equally spaced exact real energies from A to B inclusive
-    (COUNT >= 2; COUNT = 1 gives A alone).  Every point goes through the energy checks, so a
-    grid that hits 0 or +-4 is refused with the offending point named.
+    """``A:B:COUNT`` -> COUNT equally spaced exact real energies from A to B inclusive,
+    A < B and 2 <= COUNT <= MAX_GRID_POINTS; ``A:A:1`` (COUNT = 1, A = B) is the single
+    energy A.  Every point goes through the energy checks, so a grid that hits 0 or +-4 is
+    refused with the offending point named.  A grid with A = B and COUNT > 1 (which would
+    repeat one energy), B < A, or a COUNT that is not a plain positive integer is refused.
 
     >>> [str(e) for e in parse_energy_grid("0.5:2:4")]
     ['0.5', '1', '1.5', '2']
+    >>> parse_energy_grid("1:1:3")  # doctest: +ELLIPSIS
+    Traceback (most recent call last):
+    ...
+    latgreen.errors.InputError: energy grid '1:1:3': A = B with COUNT = 3 ...
     """
     parts = text.split(":") if isinstance(text, str) else []
+    shown = text if not isinstance(text, str) or len(text) <= 60 else text[:57] + "..."
     if len(parts) != 3:
-        raise InputError(f"cannot parse energy grid {text!r}: expected A:B:COUNT, e.g. "
+        raise InputError(f"cannot parse energy grid {shown!r}: expected A:B:COUNT, e.g. "
                          "'0.5:3.5:7'")
-    try:
-        count = int(parts[2])
-    except ValueError:
-        raise InputError(f"energy grid {text!r}: COUNT must be an integer") from None
-    if count < 1 or count > 100_000:
-        raise InputError(f"energy grid {text!r}: COUNT must be between 1 and 100000")
+    ct = parts[2].strip()
+    if not _COUNT.fullmatch(ct) or len(ct) > 12:
+        raise InputError(f"energy grid {shown!r}: COUNT must be a whole number from 1 to "
+                         f"{MAX_GRID_POINTS}, got {ct[:20]!r}")
+    count = int(ct)
+    if count < 1 or count > MAX_GRID_POINTS:
+        raise InputError(f"energy grid {shown!r}: COUNT must be between 1 and "
+                         f"{MAX_GRID_POINTS} (the rows of one table), got {count}")
     a, b = parse_energy(parts[0], lattice, quantity), parse_energy(parts[1], lattice, quantity)
     if not (a.is_real and b.is_real):
-        raise InputError(f"energy grid {text!r}: the end points must be real")
+        raise InputError(f"energy grid {shown!r}: the end points must be real")
     if count == 1:
+        if a.re != b.re:
+            raise InputError(f"energy grid {shown!r}: COUNT = 1 is the single energy A:A:1; "
+                             "from A to B give COUNT >= 2")
         return [a]
+    if a.re == b.re:
+        raise InputError(f"energy grid {shown!r}: A = B with COUNT = {count} would repeat "
+                         f"one energy {count} times; for a single energy write "
+                         f"{parts[0].strip()}:{parts[0].strip()}:1")
+    if b.re < a.re:
+        raise InputError(f"energy grid {shown!r}: B < A; the grid runs upwards, from A to B "
+                         f"(write {parts[1].strip()}:{parts[0].strip()}:{count})")
     step = (b.re - a.re) / (count - 1)
     out = []
     for k in range(count):
         x = a.re + k * step
-        out.append(check_energy(x, Fraction(0), f"{_text(x)} (point {k} of the grid {text})",
+        out.append(check_energy(x, Fraction(0), f"{_text(x)} (point {k} of the grid {shown})",
                                 lattice, quantity))
     return out

@@ -18,12 +18,11 @@ site is m of its canonical representative (then |n| <= m on both sublattices).
 
 from __future__ import annotations
 
-import math
 from collections.abc import Iterator
 from fractions import Fraction
 
 from ..errors import InputError
-from .base import Lattice, Site
+from .base import Lattice, Site, float_sqrt
 from .triangular import POINT_GROUP, apply, canonical_pair
 
 _STAB = tuple(g for g in POINT_GROUP
@@ -92,7 +91,7 @@ class Honeycomb(Lattice):
         return sum(2 * m + 2 + (m + 1) // 2 for m in range(extent + 1))
 
     def distance(self, site: Site) -> float:
-        return math.sqrt(distance2(site))
+        return float_sqrt(distance2(site))
 
 
 def column_sites(m: int) -> list[Site]:

@@ -13,11 +13,10 @@ diagonal.  Points on either mirror line are fixed by it, so every orbit meets th
 
 from __future__ import annotations
 
-import math
 from collections.abc import Iterator
 from fractions import Fraction
 
-from .base import Lattice, Site
+from .base import Lattice, Site, float_sqrt
 
 Matrix = tuple[tuple[int, int], tuple[int, int]]
 
@@ -90,7 +89,7 @@ class Triangular(Lattice):
         7.0
         """
         m, n = site
-        return math.sqrt(m * m + m * n + n * n)
+        return float_sqrt(m * m + m * n + n * n)
 
 
 TRIANGULAR = Triangular(

@@ -181,6 +181,9 @@ def _mpfr_nodes(panels: Sequence[tuple[float, float]], degree: int, bits: int):
     return xs, ws
 
 
+JUMP = 64  # a gap in n above which the recurrence restarts from direct cosines
+
+
 def column(m: int, ns: Sequence[int], digits: int) -> list[mpmath.mpf]:
     """R(m, n) for 0 <= n <= m (m >= 1) by the panel rule, aiming at ``digits`` digits.
 
@@ -236,6 +239,13 @@ def column(m: int, ns: Sequence[int], digits: int) -> list[mpmath.mpf]:
         for target in want:
             if target == 0:
                 continue
+            if target - n > JUMP:  # a far n: start the recurrence there, not at 1
+                # (the nodes carry log2(m) extra bits, so cos(2 n x_j) keeps the precision)
+                u_prev, u_cur = (np.array([mpz(gmpy2.rint(osc[j] * gmpy2.cos(2 * t * xs[j])
+                                                          * one)) for j in keep]
+                                          or [mpz(0)], dtype=object)
+                                 for t in (target - 1, target))
+                n = target
             while n < target:
                 u_prev, u_cur = u_cur, ((C2 * u_cur) >> fb) - u_prev
                 n += 1

@@ -7,6 +7,7 @@ exact form where one exists and a rigorous bound on the printed value's error.
 
 from __future__ import annotations
 
+import operator
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 from fractions import Fraction
@@ -19,6 +20,7 @@ from ..errors import InputError, VerificationError
 from ..exact.evaluate import FixedPointEvaluator
 from ..exact.forms import ExactForm
 from ..lattices import Site, get_lattice
+from ..lattices.base import short_repr
 from ..rounding import Rounded, agreement_digits, round_interval
 from .base import Batch, Provider
 from .cubic_resistance import BCC_RESISTANCE, FCC_RESISTANCE, SC_RESISTANCE
@@ -29,6 +31,12 @@ from .triangular_resistance import TRIANGULAR_RESISTANCE
 from .trihex_green import HoneycombGreen, TriangularGreen
 
 MAX_DIGITS = 1000
+# resistance beyond the exact range (quadrature confirmed by the far-field expansion): the
+# largest canonical first coordinate served; beyond, the quadrature's cost (cubic: nodes
+# grow with l, about 5-8 s at l = 60; 2-D: working precision grows with log r) or its
+# float64 planning (2-D, r near 1e300) no longer fits a single answer
+FAR_LIMIT = {"square": 10**30, "triangular": 10**20, "honeycomb": 10**20,
+             "sc": 60, "bcc": 60, "fcc": 60}
 QUANTITIES = ("resistance", "green", "dos")
 PROVIDERS: dict[tuple[str, str], Provider] = {
     ("square", "resistance"): SQUARE_RESISTANCE,
@@ -47,8 +55,14 @@ PARAMETRISED: dict[tuple[str, str], Callable[[Energy], Provider]] = {
 
 
 def check_digits(digits: object) -> int:
-    if isinstance(digits, bool) or not isinstance(digits, int):
-        raise InputError(f"digits must be an integer, got {digits!r}")
+    """Digits asked for: a positive integer (Python or numpy; bool, float, str refused) up to
+    the ceiling ``MAX_DIGITS``."""
+    if isinstance(digits, bool | str | bytes | float):
+        raise InputError(f"digits must be an integer, got {short_repr(digits)}")
+    try:
+        digits = operator.index(digits)  # type: ignore[arg-type]
+    except TypeError:
+        raise InputError(f"digits must be an integer, got {short_repr(digits)}") from None
     if digits <= 0:
         raise InputError(f"digits must be positive, got {digits}")
     if digits > MAX_DIGITS:
@@ -159,6 +173,13 @@ def resistance(lattice: str, site: Sequence[object], digits: int = 50) -> Result
     if not any(c):
         return Result(**common, value="0", exact=ExactForm((Fraction(0),), (), "derived"),
                       error_bound="0", methods=("definition",), agreement_digits=digits)
+    limit = FAR_LIMIT.get(lat.name)
+    if limit is not None and max(abs(x) for x in c) > limit:
+        raise InputError(
+            f"{lat.name} site {_site_text(c)} is too far out: resistances are computed for "
+            f"canonical coordinates up to {_site_text((limit,))[1:-1].lstrip('~')} (exact "
+            f"forms up to {provider.exact_limit}, beyond them quadrature confirmed by the "
+            "far-field expansion, whose cost grows with the distance)")
     form = provider.exact_form(c)
     if form is not None:
         nums, dens = form.integer_row()
@@ -180,27 +201,37 @@ def resistance(lattice: str, site: Sequence[object], digits: int = 50) -> Result
     return _far_site(provider, c, digits, common)
 
 
+def _site_text(c: Site) -> str:
+    """A site for messages: coordinates of more than 12 digits as powers of ten."""
+    def one(x: int) -> str:
+        return str(x) if abs(x) < 10**12 else f"{'-' if x < 0 else ''}~1e{len(str(abs(x))) - 1}"
+    return "(" + ", ".join(one(x) for x in c) + ")"
+
+
 def _far_site(provider: Provider, c: Site, digits: int, common: dict[str, Any]) -> Result:
-    """Beyond the exact range: quadrature confirmed by the far-field expansion."""
+    """Beyond the exact range: quadrature confirmed by the far-field expansion.  The digits
+    the expansion can confirm are known before the quadrature runs: more are refused at
+    once."""
     asy = provider.asymptotic(c, digits + 15)
     if asy is None:  # pragma: no cover - every provider with a finite exact range has one
         raise InputError(f"site {c} is beyond the exact range and no second method covers it")
     a_val, a_err = asy
     with mpmath.workdps(digits + 15):
+        reach = int(mpmath.floor(-mpmath.log10(2 * a_err / abs(a_val))))
+    if digits > reach:
+        raise InputError(
+            f"site {_site_text(c)} is beyond the exact range (coordinates up to "
+            f"{provider.exact_limit}); there the far-field expansion confirms only {reach} "
+            f"digits: ask for at most --digits {reach}")
+    with mpmath.workdps(digits + 15):
         q = provider.quad(c, digits + 10)
         slack = mpmath.mpf(10) ** (-(digits + 9)) * abs(q)  # the quadrature's own target
-        reach = int(mpmath.floor(-mpmath.log10(2 * a_err / abs(q))))
         agree = agreement_digits(mpf_fraction(q), mpf_fraction(a_val), digits + 10)
         differ = abs(q - a_val) > a_err + slack
     if differ:
         raise VerificationError(
             f"{provider.lattice.name} resistance at {c}: quadrature and far-field expansion "
             f"differ by more than the expansion's error estimate")
-    if digits > reach:
-        raise InputError(
-            f"site {c} is beyond the exact range (coordinates up to {provider.exact_limit}); "
-            f"there the far-field expansion confirms only {reach} digits: ask for at most "
-            f"--digits {reach}")
     # the quadrature has 10 guard digits; round it, and say so
     with mpmath.workdps(digits + 15):
         tol = mpmath.mpf(10) ** (-(digits + 8)) * abs(q)

@@ -68,6 +68,7 @@ from .green_api import (
     _certify_real,
     _frac,
     _modulus_bound,
+    check_single_site,
     component_agreement,
 )
 from .square_green import column_of, quad_digits_needed
@@ -450,8 +451,7 @@ def _green(lattice: str) -> Any:
         lat = get_lattice(lattice)
         s = lat.site(site)
         c = lat.canonical(s)
-        if c[0] > 60:
-            raise InputError(f"site {c}: G at an energy is offered for coordinates up to 60")
+        check_single_site(lattice, c)
         closed = not any(c) or c == NEIGHBOUR[lattice]
         cap = MAX_DIGITS_CLOSED if closed else MAX_DIGITS_QUAD
         if digits > cap:
@@ -530,6 +530,7 @@ def _local_dos(lattice: str) -> Any:
         lat = get_lattice(lattice)
         s = lat.site(site)
         c = lat.canonical(s)
+        check_single_site(lattice, c)
         if not any(c) or c == NEIGHBOUR[lattice]:
             return _density(lattice, "local-dos", s, E, digits, c)
         if not _inside(lattice, E):

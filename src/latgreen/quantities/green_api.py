@@ -36,6 +36,27 @@ BASIS_TEXT = ("G00 = G(E;0,0) = 2*elliptic_k(16/E**2)/(pi*E), G11 = G(E;1,1) = "
               "principal branch, off the cut; on the cut the E + i0 limits of the README)")
 
 
+# single values of G at an energy (green, local_dos): the largest canonical first coordinate.
+# The certified exact form and the quadrature that confirms it cost about m^2 (2-D) or more
+# (cubic: the confirming integrals); measured on one loaded core at 10 digits, the worst
+# sites at these limits take: square (150, 150) at 1+1j 13 s, honeycomb local dos
+# (30, 15, 1) ~8 s, cubic (10, 10, 10) a few seconds.  Tables reach further (tables/make.py).
+SINGLE_SITE_LIMIT = {"square": 150, "triangular": 30, "honeycomb": 30,
+                     "sc": 10, "bcc": 10, "fcc": 10}
+
+
+def check_single_site(lattice: str, c: Site) -> None:
+    """Refuse, at once, a single G value (or local DOS) beyond ``SINGLE_SITE_LIMIT``."""
+    limit = SINGLE_SITE_LIMIT[lattice]
+    if c[0] > limit:
+        shown = str(c) if len(str(c)) <= 80 else f"(~1e{len(str(c[0])) - 1}, ...)"
+        raise InputError(f"site {shown}: single values of G and of the local DOS at an energy "
+                         f"are offered on the {lattice} lattice for canonical coordinates up "
+                         f"to {limit} (beyond, the certified form and its confirming "
+                         "quadrature take longer than a single answer may; tables at an "
+                         "energy reach further)")
+
+
 def _frac(x: Any) -> Fraction:
     sign, man, exp, _ = x._mpf_
     if not man:
@@ -129,8 +150,7 @@ def _square_green(site: Sequence[object], E: Energy, digits: int) -> GreenResult
     lat = get_lattice("square")
     s = lat.site(site)
     c = lat.canonical(s)
-    if c[0] > 2000:
-        raise InputError(f"site {c}: exact forms of G are produced for coordinates up to 2000")
+    check_single_site("square", c)
     form = exact_green.green_form(E, c[0], c[1])
     v = exact_green.evaluate(form, E, (c[0], c[1]), digits)
     zero = exact_green.zero_parts(E, c[0], c[1])
@@ -215,7 +235,9 @@ def _square_local_dos(site: Sequence[object], E: Energy, digits: int) -> Result:
     lat = get_lattice("square")
     s = lat.site(site)
     c = lat.canonical(s)
+    check_single_site("square", c)
     form = exact_green.green_form(E, c[0], c[1])
+
     def build(bits: int) -> Any:
         return exact_green.neg_imag_over_pi(exact_green.ball(form, E, bits), bits)
 

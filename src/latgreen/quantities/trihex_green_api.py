@@ -22,7 +22,7 @@ import mpmath
 from flint import ctx
 
 from ..energy import Energy
-from ..errors import InputError, VerificationError
+from ..errors import VerificationError
 from ..exact import trihex_green as exact_green
 from ..exact.forms import Constant, ExactForm
 from ..lattices import Site, get_lattice
@@ -35,10 +35,11 @@ from .green_api import (
     _certify_real,
     _frac,
     _modulus_bound,
+    check_single_site,
     component_agreement,
 )
 from .square_green import quad_digits_needed
-from .trihex_green import EXACT_LIMIT, basis_text, quad_value
+from .trihex_green import basis_text, quad_value
 
 BAND = {"triangular": (Fraction(-3), Fraction(6)), "honeycomb": (Fraction(-3), Fraction(3))}
 ORIGIN = {"triangular": (0, 0), "honeycomb": (0, 0, 0)}
@@ -48,9 +49,7 @@ def _site(lattice: str, site: Sequence[object]) -> tuple[Site, Site]:
     lat = get_lattice(lattice)
     s = lat.site(site)
     c = lat.canonical(s)
-    if c[0] > EXACT_LIMIT:
-        raise InputError(f"site {c}: exact forms of G are produced for a first canonical "
-                         f"coordinate up to {EXACT_LIMIT}")
+    check_single_site(lattice, c)
     return s, c
 
 
