@@ -151,3 +151,44 @@ def test_kill_9_at_a_random_moment_leaves_the_catalogue_as_it_was(tmp_path, comm
     assert load_catalogue(root)["tables"]["square-resistance"]["versions"][cur]["digits"] == 16
     assert not (root / WORK_DIR).exists()
     assert all(p.name.startswith("v") for p in (root / "square-resistance").iterdir())
+
+
+def test_publish_of_a_fifo_descriptor_is_one_line_not_a_hang(tmp_path):
+    # a FIFO in place of datapackage.json blocked `publish` for ever (it read it as a file)
+    src = tmp_path / "t"
+    src.mkdir()
+    os.mkfifo(src / "datapackage.json")
+    p = run_cli("publish", str(src), "--into", str(tmp_path / "cat"), timeout=60)
+    assert p.returncode == 2 and "FIFO" in p.stderr and "Traceback" not in p.stderr, p.stderr
+    assert len(p.stderr.strip().splitlines()) == 1
+
+
+def test_publish_of_a_linked_data_file_is_refused_without_reading_it(tmp_path):
+    src = tmp_path / "t"
+    make_table(TableRequest("square", "resistance", 2, 10, src, progress=False))
+    outside = tmp_path / "outside.txt"
+    outside.write_text("not for the catalogue\n")
+    (src / "values.csv").unlink()
+    (src / "values.csv").symlink_to(outside)
+    p = run_cli("publish", str(src), "--into", str(tmp_path / "cat"))
+    assert p.returncode == 2 and "symbolic link" in p.stderr, p.stderr
+    assert "not for the catalogue" not in p.stderr
+    assert not (tmp_path / "cat" / "square-resistance").exists()
+
+
+def test_regen_of_a_version_edited_after_publication_is_refused(tmp_path):
+    # regen proved the new values against whatever the old files held, even when they were
+    # no longer the published bytes: the old version's hashes are now checked first
+    src = tmp_path / "t"
+    make_table(TableRequest("square", "resistance", 3, 10, src, progress=False))
+    cat = tmp_path / "cat"
+    publish_dir(src, cat)
+    v1 = cat / "square-resistance" / "v1"
+    text = (v1 / "values.csv").read_text()
+    forged = text.replace("\n1,0,0.5", "\n1,0,0.6", 1)
+    assert forged != text
+    (v1 / "values.csv").write_text(forged)
+    before = (cat / "catalogue.json").read_bytes()
+    p = run_cli("regen", str(cat / "square-resistance"), "--digits", "12", "--quiet")
+    assert p.returncode == 2 and "sha256 or byte count differs" in p.stderr, p.stderr
+    assert (cat / "catalogue.json").read_bytes() == before

@@ -4,6 +4,7 @@ the cron entry point (lock, log, exit statuses)."""
 
 from __future__ import annotations
 
+import hashlib
 import json
 import os
 import shutil
@@ -23,7 +24,6 @@ from latgreen.tables.versions import (
     WORK_DIR,
     CatalogueBusy,
     catalogue_lock,
-    file_sha256,
     load_catalogue,
 )
 
@@ -132,7 +132,9 @@ def _forge(root: Path, tid: str, line_start: str, column: int) -> None:
     lines[i] = ",".join(parts)
     (v / "values.csv").write_text("".join(lines))
     desc = json.loads((v / "datapackage.json").read_text())
-    desc["resources"][0]["hash"], desc["resources"][0]["bytes"] = file_sha256(v / "values.csv")
+    data = (v / "values.csv").read_bytes()
+    desc["resources"][0]["hash"] = "sha256:" + hashlib.sha256(data).hexdigest()
+    desc["resources"][0]["bytes"] = len(data)
     (v / "datapackage.json").write_text(json.dumps(desc))
 
 

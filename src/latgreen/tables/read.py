@@ -148,7 +148,7 @@ def _kind(mode: int) -> str:
     return "not a plain file"  # pragma: no cover
 
 
-def _load_json(d: TableDir, name: str, limit: int) -> Any:
+def load_json(d: TableDir, name: str, limit: int) -> Any:
     with d.open(name) as f:
         if d.size(f) > limit:
             raise TableFileError(f"{name}: {d.size(f):,} bytes, more than a {name} can be "
@@ -290,7 +290,7 @@ def parse_descriptor(desc: Any) -> Descriptor:
 def read_descriptor(d: TableDir) -> Descriptor:
     if not d.exists(DESCRIPTOR):
         raise InputError(f"{d.path} has no {DESCRIPTOR}: not a latgreen table")
-    return parse_descriptor(_load_json(d, DESCRIPTOR, MAX_DESCRIPTOR_BYTES))
+    return parse_descriptor(load_json(d, DESCRIPTOR, MAX_DESCRIPTOR_BYTES))
 
 
 # -- data files -------------------------------------------------------------------------
@@ -460,7 +460,7 @@ class CatalogueEntry:
 
 def read_catalogue(root: TableDir) -> list[CatalogueEntry]:
     """The tables listed in ``root/catalogue.json``, checked for structure."""
-    data = _load_json(root, CATALOGUE_FILE, MAX_CATALOGUE_BYTES)
+    data = load_json(root, CATALOGUE_FILE, MAX_CATALOGUE_BYTES)
     bad = f"{CATALOGUE_FILE} is not a latgreen catalogue index"
     if not isinstance(data, dict) or not isinstance(data.get("tables"), dict):
         raise InputError(f"{bad}: no 'tables' object")

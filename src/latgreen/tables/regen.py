@@ -42,6 +42,7 @@ from .versions import (
     CATALOGUE_FILE,
     CatalogueBusy,
     catalogue_lock,
+    check_hashes,
     check_root,
     current_version,
     load_catalogue,
@@ -195,6 +196,9 @@ def _regenerate(root: Path, tid: str, cur: str, digits: int, extent: int | None,
                 progress: bool) -> dict[str, Any]:
     version_dir = root / tid / cur
     old_desc = read_descriptor(version_dir)
+    # the old values are what is proved: they must be the published bytes (a file edited
+    # after publication, a link or a FIFO in its place is refused before any work)
+    check_hashes(version_dir, old_desc)
     lg = old_desc["latgreen"]
     cat = load_catalogue(root)
     rec = cat["tables"][tid]["versions"][cur]

@@ -180,14 +180,18 @@ def next_version(table_root: Path) -> int:
 def read_descriptor(version_dir: Path) -> dict[str, Any]:
     """A table's datapackage.json, checked for every key the catalogue relies on (one line
     naming the file and the key otherwise)."""
-    path = Path(version_dir) / "datapackage.json"
-    try:
-        desc = json.loads(path.read_text(encoding="utf-8"))
-    except FileNotFoundError:
-        raise InputError(f"{version_dir} has no datapackage.json: not a latgreen table") \
-            from None
-    except (OSError, UnicodeDecodeError, ValueError) as e:
-        raise InputError(f"{path} is not readable JSON ({type(e).__name__})") from None
+    from .read import DESCRIPTOR, MAX_DESCRIPTOR_BYTES, TableDir, TableFileError, load_json
+
+    path = Path(version_dir) / DESCRIPTOR
+    # through the table reader of verify: a regular file of bounded size, no link followed
+    # (a FIFO here would block for ever, a link would read outside the table)
+    with TableDir(Path(version_dir), (DESCRIPTOR,)) as d:
+        if not d.exists(DESCRIPTOR):
+            raise InputError(f"{version_dir} has no datapackage.json: not a latgreen table")
+        try:
+            desc = load_json(d, DESCRIPTOR, MAX_DESCRIPTOR_BYTES)
+        except TableFileError as e:
+            raise InputError(f"{version_dir}: {e}") from None
 
     def bad(what: str) -> InputError:
         return InputError(f"{path}: {what}: not a latgreen table descriptor")
@@ -332,26 +336,24 @@ def data_hashes(desc: dict[str, Any]) -> dict[str, str]:
     return {r["path"]: r["hash"] for r in desc["resources"]}
 
 
-def file_sha256(path: Path) -> tuple[str, int]:
-    """(``sha256:<hex>``, byte count) of a file (the hashing of ``latgreen verify``)."""
-    import hashlib
-
-    with open(path, "rb") as f:
-        digest = hashlib.file_digest(f, "sha256").hexdigest()
-        return "sha256:" + digest, f.tell()
-
-
-def check_hashes(dir_: Path, desc: dict[str, Any]) -> None:
+def check_hashes(dir_: Path, desc: dict[str, Any], copy_to: Path | None = None) -> None:
     """Every data file's byte count and sha256 as the descriptor says (InputError naming the
-    first that differs)."""
-    for r in desc["resources"]:
-        f = dir_ / r["path"]
-        if not f.is_file():
-            raise InputError(f"{f}: missing (listed in {dir_ / 'datapackage.json'})")
-        digest, n = file_sha256(f)
-        if digest != r["hash"] or n != r.get("bytes", n):
-            raise InputError(f"{f}: its sha256 or byte count differs from the descriptor (the "
-                             "file was changed after it was written)")
+    first that differs); with ``copy_to``, each file is also copied there as it is hashed.
+    Files are opened by verify's table reader: regular files only, no link followed."""
+    from .read import TableDir, TableFileError, digest
+
+    names = tuple(r["path"] for r in desc["resources"])
+    with TableDir(Path(dir_), names) as d:
+        for r in desc["resources"]:
+            f = Path(dir_) / r["path"]
+            try:
+                dg = digest(d, r["path"], r.get("bytes"),
+                            None if copy_to is None else copy_to / r["path"])
+            except TableFileError as e:
+                raise InputError(f"{dir_}: {e} (listed in its datapackage.json)") from None
+            if dg.sha256 != r["hash"] or dg.size != r.get("bytes", dg.size):
+                raise InputError(f"{f}: its sha256 or byte count differs from the descriptor "
+                                 "(the file was changed after it was written)")
 
 
 def work_dir(root: Path) -> Path:
@@ -451,9 +453,10 @@ def publish_dir(src: Path, root: Path) -> tuple[str, str, dict[str, Any]]:
 
     def copy(staging: Path, version: str) -> dict[str, Any]:
         staging.mkdir()
-        for name in ["datapackage.json", *(r["path"] for r in desc["resources"])]:
-            shutil.copyfile(src / name, staging / name)
-        copied = read_descriptor(staging)
+        # the data files copied by the same safe reader that hashes them (no link followed)
+        check_hashes(src, desc, copy_to=staging)
+        shutil.copyfile(src / "datapackage.json", staging / "datapackage.json")
+        copied = read_descriptor(staging)  # a swap since it was read shows as a difference
         if copied != desc:
             raise InputError(f"{src}/datapackage.json changed while it was copied")
         check_hashes(staging, copied)
